@@ -1,0 +1,168 @@
+/*
+ * layerwise/bdd.h - the engine room: reduced ordered BDDs and ZBDDs.
+ *
+ * An lw_bdd manager owns every node in one arena; nodes are never freed
+ * one by one, and lw_bdd_free releases them all.  A node is named by a
+ * 32-bit index (lw_bref); 0 and 1 are the terminals.  Variables are
+ * identified by their level (0 = top of the order).
+ *
+ * The same manager type serves zero-suppressed diagrams (families of sets,
+ * used for minimal cut sets) when made with lw_zdd_new; a manager is one
+ * kind or the other, never both.
+ *
+ * Every operation returns LW_BREF_INVALID once the node limit is reached or
+ * memory runs out; the reason is sticky and read with lw_bdd_status.
+ *
+ * lw_builder turns a network into BDDs: it fixes the variable order (first
+ * occurrence in a depth-first, left-to-right walk from the roots) and
+ * builds each gate once.  lw_diagram is a frozen, compact copy of one
+ * function, the form every analysis reads.
+ */
+#ifndef LAYERWISE_BDD_H
+#define LAYERWISE_BDD_H
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "layerwise/error.h"
+#include "layerwise/network.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+typedef uint32_t lw_bref;
+#define LW_BDD_FALSE ((lw_bref)0)
+#define LW_BDD_TRUE ((lw_bref)1)
+#define LW_BREF_INVALID ((lw_bref)UINT32_MAX)
+#define LW_LEVEL_TERMINAL UINT32_MAX
+
+typedef struct lw_bdd lw_bdd;
+
+/* A manager for 'nlevels' variables that makes at most 'max_nodes' nodes
+ * (0 = the default, 20 million).  NULL when out of memory. */
+lw_bdd *lw_bdd_new(uint32_t nlevels, size_t max_nodes);
+lw_bdd *lw_zdd_new(uint32_t nlevels, size_t max_nodes);
+void lw_bdd_free(lw_bdd *b);
+
+lw_status lw_bdd_status(const lw_bdd *b);   /* LW_OK, LW_ELIMIT, LW_ENOMEM */
+size_t lw_bdd_nodes(const lw_bdd *b);       /* nodes made, terminals too */
+size_t lw_bdd_max_nodes(const lw_bdd *b);
+size_t lw_bdd_bytes(const lw_bdd *b);       /* memory held */
+
+uint32_t lw_bdd_level(const lw_bdd *b, lw_bref f);
+lw_bref lw_bdd_hi(const lw_bdd *b, lw_bref f);
+lw_bref lw_bdd_lo(const lw_bdd *b, lw_bref f);
+
+/* Find or make the node (level, hi, lo), applying the reduction rule of the
+ * manager's kind (BDD: hi == lo; ZDD: hi == 0). */
+lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo);
+
+/* BDD operations. */
+lw_bref lw_bdd_var(lw_bdd *b, uint32_t level);
+lw_bref lw_bdd_and(lw_bdd *b, lw_bref f, lw_bref g);
+lw_bref lw_bdd_or(lw_bdd *b, lw_bref f, lw_bref g);
+lw_bref lw_bdd_not(lw_bdd *b, lw_bref f);
+/* At least k of the n functions are true. */
+lw_bref lw_bdd_atleast(lw_bdd *b, uint32_t k, const lw_bref *in, size_t n);
+/* Number of nodes reachable from f, terminals included. */
+size_t lw_bdd_size(const lw_bdd *b, lw_bref f);
+
+/* ---- from a network ---------------------------------------------- */
+
+typedef struct lw_builder lw_builder;
+
+/* Fix the order from 'roots' (gates of 'net') and prepare to build. */
+lw_status lw_builder_new(const lw_network *net, const uint32_t *roots,
+                         size_t nroots, size_t max_nodes, lw_builder **out,
+                         lw_error *err);
+void lw_builder_free(lw_builder *bl);
+/* The BDD of gate 'g' (memoised).  On failure the message names the node
+ * limit and what to try. */
+lw_status lw_builder_gate(lw_builder *bl, uint32_t g, lw_bref *out,
+                          lw_error *err);
+lw_bdd *lw_builder_bdd(lw_builder *bl);
+uint32_t lw_builder_nlevels(const lw_builder *bl);
+/* Levels that the first root alone reaches: 0 .. root_levels-1. */
+uint32_t lw_builder_root_levels(const lw_builder *bl);
+const uint32_t *lw_builder_level_var(const lw_builder *bl); /* level->var */
+const uint32_t *lw_builder_var_level(const lw_builder *bl); /* var->level,
+                                                  UINT32_MAX when unused */
+
+/* ---- frozen diagrams ---------------------------------------------- */
+
+/* A compact copy of one function: nodes in topological order, children
+ * before parents, terminals at 0 and 1, the root last. */
+typedef struct lw_diagram {
+    uint32_t n;             /* nodes, terminals included */
+    uint32_t root;          /* index of the root (0 or 1 when constant) */
+    uint32_t *level;        /* per node; LW_LEVEL_TERMINAL for 0 and 1 */
+    uint32_t *hi, *lo;      /* children, local indices */
+    uint32_t nlevels;       /* levels of the order */
+    uint32_t *level_var;    /* level -> network variable (owned copy) */
+} lw_diagram;
+
+lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
+                            const uint32_t *level_var, lw_diagram **out,
+                            lw_error *err);
+void lw_diagram_free(lw_diagram *d);
+
+/* Probability of the function when level l is true with probability
+ * q[l]: one bottom-up pass.  'work' holds d->n doubles (node values are
+ * left there). */
+double lw_diagram_prob(const lw_diagram *d, const double *q, double *work);
+
+/* Birnbaum importance of every level (dP/dq[l]) from one bottom-up and
+ * one top-down pass; 'birnbaum' receives d->nlevels values.  Returns P. */
+double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
+                           double *birnbaum, lw_error *err, int *ok);
+
+/* ---- minimal cut sets ------------------------------------------------ */
+
+/* The minimal cut sets of a monotone function as a zero-suppressed BDD,
+ * by the decomposition MCS(x.f1 + f0) = {x} x (MCS(f1) without supersets
+ * of MCS(f0)) + MCS(f0).  'q' gives the probability of each level. */
+typedef struct lw_cut_family lw_cut_family;
+
+typedef struct lw_level_set {
+    size_t order;           /* number of levels in the set */
+    uint32_t *levels;       /* increasing */
+    double probability;     /* product of q over the set */
+} lw_level_set;
+
+lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
+                            size_t max_nodes, lw_cut_family **out,
+                            lw_error *err);
+void lw_cut_family_free(lw_cut_family *f);
+double lw_cut_family_count(const lw_cut_family *f);      /* all sets */
+double lw_cut_family_rare_event(const lw_cut_family *f); /* sum of P(set) */
+size_t lw_cut_family_nodes(const lw_cut_family *f);
+/* fv[l] = sum of P(sets holding level l) / sum of P(all sets). */
+lw_status lw_cut_family_fussell_vesely(const lw_cut_family *f, double *fv,
+                                       lw_error *err);
+/* 1 - prod over all sets of (1 - P(set)), in log space; LW_ELIMIT when
+ * the family has more than 'max_sets' sets. */
+lw_status lw_cut_family_upper_bound(const lw_cut_family *f, double max_sets,
+                                    double *out, lw_error *err);
+/* The most probable sets, best first: at most 'top' (0 = all), none
+ * below 'cutoff', none longer than 'max_order' (0 = any).  Best-first
+ * search guided by each node's most probable completion, so the first N
+ * sets cost about N times the depth, whatever the family's size.
+ * *more is set when sets were left out. */
+lw_status lw_cut_family_top(const lw_cut_family *f, size_t top,
+                            double cutoff, size_t max_order,
+                            lw_level_set **sets, size_t *nsets, bool *more,
+                            lw_error *err);
+void lw_level_sets_free(lw_level_set *sets, size_t n);
+/* Visit every set (for small families: tests, incident); 'fn' returns
+ * non-zero to stop. */
+lw_status lw_cut_family_each(const lw_cut_family *f,
+                             int (*fn)(void *ud, const uint32_t *levels,
+                                       size_t order, double probability),
+                             void *ud, lw_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

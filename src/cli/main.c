@@ -1,0 +1,83 @@
+/*
+ * main.c - layerwise: dispatch to one command.
+ *
+ * The command runs on a thread with a large stack: some diagram
+ * algorithms recurse once per variable level, and hospital-wide models
+ * can have hundreds of thousands of them.
+ */
+#include <pthread.h>
+#include <stdio.h>
+#include <string.h>
+
+#include "cli/cli.h"
+
+typedef struct command {
+    const char *name;
+    int (*run)(int argc, char **argv);
+    const char *summary;
+} command;
+
+static const command commands[] = {
+    {"check", cmd_check, "load and validate a model; list its parts"},
+    {"analyze", cmd_analyze, "exact hazard probability, cut sets, importance"},
+};
+
+static void print_usage(FILE *out)
+{
+    fputs("usage: layerwise COMMAND [options] MODEL.xml   (- reads standard "
+          "input)\n\ncommands:\n", out);
+    for (size_t i = 0; i < sizeof commands / sizeof *commands; i++)
+        fprintf(out, "  %-12s %s\n", commands[i].name, commands[i].summary);
+    fputs("\nlayerwise COMMAND --help shows a command's options; "
+          "man layerwise has them all.\n", out);
+}
+
+typedef struct job {
+    const command *cmd;
+    int argc;
+    char **argv;
+    int rc;
+} job;
+
+static void *run_job(void *arg)
+{
+    job *j = arg;
+    j->rc = j->cmd->run(j->argc, j->argv);
+    return NULL;
+}
+
+int main(int argc, char **argv)
+{
+    if (argc < 2) {
+        print_usage(stderr);
+        return EXIT_USAGE;
+    }
+    if (!strcmp(argv[1], "--version") || !strcmp(argv[1], "version")) {
+        printf("layerwise %s\n", lw_version());
+        return EXIT_DONE;
+    }
+    if (!strcmp(argv[1], "--help") || !strcmp(argv[1], "-h") ||
+        !strcmp(argv[1], "help")) {
+        print_usage(stdout);
+        return EXIT_DONE;
+    }
+    for (size_t i = 0; i < sizeof commands / sizeof *commands; i++) {
+        if (strcmp(argv[1], commands[i].name))
+            continue;
+        job j = {&commands[i], argc - 1, argv + 1, EXIT_INVALID};
+        pthread_attr_t attr;
+        pthread_t t;
+        if (pthread_attr_init(&attr) == 0 &&
+            pthread_attr_setstacksize(&attr, (size_t)1 << 30) == 0 &&
+            pthread_create(&t, &attr, run_job, &j) == 0) {
+            pthread_join(t, NULL);
+        } else {
+            run_job(&j);    /* fall back to the main thread's stack */
+        }
+        pthread_attr_destroy(&attr);
+        return j.rc;
+    }
+    fprintf(stderr, "layerwise: unknown command \"%s\"\n\n", argv[1]);
+    print_usage(stderr);
+    return EXIT_USAGE;
+}

@@ -1,0 +1,539 @@
+/*
+ * bdd.c - reduced ordered binary decision diagrams (and ZBDD storage).
+ *
+ * HOW IT WORKS
+ *   A node is a record {level, hi, lo, next} in one growable arena; its
+ *   name is its index.  Indices 0 and 1 are the terminals false and true
+ *   (for a ZBDD: the empty family and the family holding the empty set).
+ *   Level 0 is the top of the variable order; terminals sit at level
+ *   UINT32_MAX, below every variable.
+ *
+ *       arena:  [0] F  [1] T  [2] (l, hi, lo, next) [3] ...
+ *       unique: bucket[hash(l, hi, lo)] -> node -> node.next -> ... -> 0
+ *       cache:  entry[hash(op, f, g) & mask] = {f, g, op, result}  (lossy)
+ *
+ *   mk(l, hi, lo) applies the reduction rule (BDD: hi == lo gives hi; ZBDD:
+ *   hi == 0 gives lo), then finds the triple in the unique table or appends
+ *   a new record.  Because a node is made only after both children exist,
+ *   a node's index is always larger than its children's: index order is a
+ *   topological order, which the probability and importance passes use
+ *   directly (bottom-up = increasing index, top-down = decreasing).
+ *
+ *   AND, OR and NOT are Shannon expansions on the top variable, with the
+ *   terminal cases first and the operation cache consulted before
+ *   expanding.  They run on an explicit stack, not the C stack, because a
+ *   path may cross as many levels as the model has variables.  k-of-n is
+ *   built by dynamic programming over the inputs:
+ *       T_i(j) = g_i AND T_{i+1}(j-1)  OR  T_{i+1}(j),  T(0) = true,
+ *   the usual ITE recursion ite(g_i, T_{i+1}(j-1), T_{i+1}(j)) written
+ *   without NOT, which is exact because T_{i+1}(j) implies T_{i+1}(j-1).
+ *
+ * INVARIANTS
+ *   - no node has hi == lo (BDD) or hi == 0 (ZBDD);
+ *   - no two nodes share (level, hi, lo), so equal functions are equal
+ *     indices (canonical for the fixed order);
+ *   - level(node) < level(hi), level(lo): children lie strictly below.
+ *
+ * LIMITS
+ *   Nodes are never collected: a manager lives for one analysis.  The
+ *   number of nodes made is bounded by max_nodes; past it every operation
+ *   returns LW_BREF_INVALID and lw_bdd_status says LW_ELIMIT, so a model
+ *   whose BDD explodes stops cleanly instead of exhausting memory.  A
+ *   record takes 16 bytes, the unique table 4 bytes a node, the cache
+ *   16 bytes an entry (at most a quarter as many entries as nodes).
+ */
+#include "layerwise/bdd.h"
+
+#include <string.h>
+
+#include "layerwise/alloc.h"
+
+typedef struct node {
+    uint32_t level;
+    uint32_t hi;
+    uint32_t lo;
+    uint32_t next;      /* unique-table chain, 0 ends it */
+} node;
+
+typedef struct centry {
+    uint32_t f, g, op, r;
+} centry;
+
+enum { OP_AND = 1, OP_OR = 2, OP_NOT = 3 };
+
+struct lw_bdd {
+    int zdd;            /* reduction rule: 0 BDD, 1 ZBDD */
+    uint32_t nlevels;
+    size_t count;       /* nodes made, terminals included */
+    size_t cap;         /* records allocated */
+    size_t max_nodes;
+    node *nodes;
+    uint32_t *buckets;
+    size_t nbuckets;    /* power of two */
+    centry *cache;
+    size_t ncache;      /* power of two */
+    lw_status status;
+    struct frame *stack;    /* apply's explicit stack */
+    size_t stack_cap;
+};
+
+typedef struct frame {
+    uint32_t f, g;
+    uint32_t level;
+    uint32_t hi;
+    uint32_t state;
+} frame;
+
+static inline uint32_t hash3(uint32_t a, uint32_t b, uint32_t c)
+{
+    uint64_t h = (uint64_t)a * 0x9E3779B97F4A7C15ull;
+    h ^= (uint64_t)b * 0xC2B2AE3D27D4EB4Full;
+    h ^= (uint64_t)c * 0x165667B19E3779F9ull;
+    h ^= h >> 31;
+    h *= 0xBF58476D1CE4E5B9ull;
+    return (uint32_t)(h ^ (h >> 29));
+}
+
+static lw_bdd *manager_new(uint32_t nlevels, size_t max_nodes, int zdd)
+{
+    lw_bdd *b = lw_calloc(1, sizeof *b);
+    if (!b)
+        return NULL;
+    b->zdd = zdd;
+    b->nlevels = nlevels;
+    b->max_nodes = max_nodes ? max_nodes : 20000000u;
+    if (b->max_nodes > UINT32_MAX - 2)
+        b->max_nodes = UINT32_MAX - 2;
+    b->cap = 1024;
+    b->nbuckets = 1024;
+    b->ncache = 1024;
+    b->nodes = lw_malloc(b->cap * sizeof *b->nodes);
+    b->buckets = lw_calloc(b->nbuckets, sizeof *b->buckets);
+    b->cache = lw_calloc(b->ncache, sizeof *b->cache);
+    if (!b->nodes || !b->buckets || !b->cache) {
+        lw_bdd_free(b);
+        return NULL;
+    }
+    for (int t = 0; t < 2; t++) {
+        b->nodes[t].level = LW_LEVEL_TERMINAL;
+        b->nodes[t].hi = b->nodes[t].lo = (uint32_t)t;
+        b->nodes[t].next = 0;
+    }
+    b->count = 2;
+    return b;
+}
+
+lw_bdd *lw_bdd_new(uint32_t nlevels, size_t max_nodes)
+{
+    return manager_new(nlevels, max_nodes, 0);
+}
+
+lw_bdd *lw_zdd_new(uint32_t nlevels, size_t max_nodes)
+{
+    return manager_new(nlevels, max_nodes, 1);
+}
+
+void lw_bdd_free(lw_bdd *b)
+{
+    if (!b)
+        return;
+    lw_free(b->nodes);
+    lw_free(b->buckets);
+    lw_free(b->cache);
+    lw_free(b->stack);
+    lw_free(b);
+}
+
+lw_status lw_bdd_status(const lw_bdd *b) { return b->status; }
+size_t lw_bdd_nodes(const lw_bdd *b) { return b->count; }
+size_t lw_bdd_max_nodes(const lw_bdd *b) { return b->max_nodes; }
+
+size_t lw_bdd_bytes(const lw_bdd *b)
+{
+    return b->cap * sizeof(node) + b->nbuckets * sizeof(uint32_t) +
+           b->ncache * sizeof(centry) + b->stack_cap * sizeof(frame);
+}
+
+uint32_t lw_bdd_level(const lw_bdd *b, lw_bref f) { return b->nodes[f].level; }
+lw_bref lw_bdd_hi(const lw_bdd *b, lw_bref f) { return b->nodes[f].hi; }
+lw_bref lw_bdd_lo(const lw_bdd *b, lw_bref f) { return b->nodes[f].lo; }
+
+/* Double the unique table; a failure is harmless (chains get longer). */
+static void grow_buckets(lw_bdd *b)
+{
+    size_t nb = b->nbuckets * 2;
+    uint32_t *bk = lw_calloc(nb, sizeof *bk);
+    if (!bk)
+        return;
+    for (size_t i = 2; i < b->count; i++) {
+        node *n = &b->nodes[i];
+        uint32_t h = hash3(n->level, n->hi, n->lo) & (uint32_t)(nb - 1);
+        n->next = bk[h];
+        bk[h] = (uint32_t)i;
+    }
+    lw_free(b->buckets);
+    b->buckets = bk;
+    b->nbuckets = nb;
+}
+
+/* Grow the cache with the node count (up to nodes / 4); harmless on
+ * failure, and a lossy cache may simply be replaced. */
+static void grow_cache(lw_bdd *b)
+{
+    size_t nc = b->ncache * 2;
+    centry *c = lw_calloc(nc, sizeof *c);
+    if (!c)
+        return;
+    lw_free(b->cache);
+    b->cache = c;
+    b->ncache = nc;
+}
+
+lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo)
+{
+    if (b->status != LW_OK || hi == LW_BREF_INVALID || lo == LW_BREF_INVALID)
+        return LW_BREF_INVALID;
+    if (b->zdd ? hi == LW_BDD_FALSE : hi == lo)
+        return b->zdd ? lo : hi;
+    uint32_t h = hash3(level, hi, lo) & (uint32_t)(b->nbuckets - 1);
+    for (uint32_t i = b->buckets[h]; i; i = b->nodes[i].next) {
+        const node *n = &b->nodes[i];
+        if (n->level == level && n->hi == hi && n->lo == lo)
+            return i;
+    }
+    if (b->count >= b->max_nodes) {
+        b->status = LW_ELIMIT;
+        return LW_BREF_INVALID;
+    }
+    if (b->count == b->cap) {
+        size_t ncap = b->cap * 2;
+        if (ncap > b->max_nodes + 2)
+            ncap = b->max_nodes + 2;
+        node *nn = lw_realloc(b->nodes, ncap * sizeof *nn);
+        if (!nn) {
+            b->status = LW_ENOMEM;
+            return LW_BREF_INVALID;
+        }
+        b->nodes = nn;
+        b->cap = ncap;
+    }
+    uint32_t i = (uint32_t)b->count++;
+    node *n = &b->nodes[i];
+    n->level = level;
+    n->hi = hi;
+    n->lo = lo;
+    n->next = b->buckets[h];
+    b->buckets[h] = i;
+    if (b->count > b->nbuckets) {
+        grow_buckets(b);
+        if (b->ncache < b->count / 4)
+            grow_cache(b);
+    }
+    return i;
+}
+
+lw_bref lw_bdd_var(lw_bdd *b, uint32_t level)
+{
+    return lw_bdd_mk(b, level, LW_BDD_TRUE, LW_BDD_FALSE);
+}
+
+/* Terminal cases; LW_BREF_INVALID when the operation must expand. */
+static inline uint32_t terminal(uint32_t op, uint32_t f, uint32_t g)
+{
+    switch (op) {
+    case OP_AND:
+        if (f == 0 || g == 0) return 0;
+        if (f == 1) return g;               /* 1 AND g = g */
+        if (g == 1 || f == g) return f;     /* f AND 1 = f AND f = f */
+        return LW_BREF_INVALID;
+    case OP_OR:
+        if (f == 1 || g == 1) return 1;
+        if (f == 0) return g;               /* 0 OR g = g */
+        if (g == 0 || f == g) return f;
+        return LW_BREF_INVALID;
+    default:                                /* NOT */
+        if (f <= 1) return 1 - f;
+        return LW_BREF_INVALID;
+    }
+}
+
+static int push(lw_bdd *b, size_t *sp, uint32_t f, uint32_t g)
+{
+    if (*sp == b->stack_cap) {
+        size_t nc = b->stack_cap ? b->stack_cap * 2 : 256;
+        frame *s = lw_realloc(b->stack, nc * sizeof *s);
+        if (!s) {
+            b->status = LW_ENOMEM;
+            return 0;
+        }
+        b->stack = s;
+        b->stack_cap = nc;
+    }
+    frame *fr = &b->stack[(*sp)++];
+    fr->f = f;
+    fr->g = g;
+    fr->state = 0;
+    return 1;
+}
+
+/* AND / OR / NOT (g unused) by Shannon expansion on an explicit stack. */
+static lw_bref apply(lw_bdd *b, uint32_t op, lw_bref f0, lw_bref g0)
+{
+    if (b->status != LW_OK || f0 == LW_BREF_INVALID || g0 == LW_BREF_INVALID)
+        return LW_BREF_INVALID;
+    size_t sp = 0;
+    uint32_t ret = LW_BREF_INVALID;
+    if (!push(b, &sp, f0, op == OP_NOT ? 0 : g0))
+        return LW_BREF_INVALID;
+    while (sp) {
+        frame *fr = &b->stack[sp - 1];
+        if (fr->state == 0) {
+            uint32_t f = fr->f, g = fr->g;
+            if (op != OP_NOT && f > g) {    /* AND, OR commute */
+                fr->f = g;
+                fr->g = f;
+                f = fr->f;
+                g = fr->g;
+            }
+            uint32_t r = terminal(op, f, g);
+            if (r == LW_BREF_INVALID) {
+                centry *c = &b->cache[hash3(op, f, g) &
+                                      (uint32_t)(b->ncache - 1)];
+                if (c->op == op && c->f == f && c->g == g)
+                    r = c->r;
+            }
+            if (r != LW_BREF_INVALID) {
+                ret = r;
+                sp--;
+                continue;
+            }
+            uint32_t lf = b->nodes[f].level;
+            uint32_t lg = op == OP_NOT ? LW_LEVEL_TERMINAL : b->nodes[g].level;
+            uint32_t lv = lf < lg ? lf : lg;
+            fr->level = lv;
+            fr->state = 1;
+            uint32_t fh = lf == lv ? b->nodes[f].hi : f;
+            uint32_t gh = op != OP_NOT && lg == lv ? b->nodes[g].hi : g;
+            if (!push(b, &sp, fh, gh))
+                return LW_BREF_INVALID;
+        } else if (fr->state == 1) {
+            fr->hi = ret;
+            fr->state = 2;
+            uint32_t f = fr->f, g = fr->g, lv = fr->level;
+            uint32_t fl = b->nodes[f].level == lv ? b->nodes[f].lo : f;
+            uint32_t gl = op != OP_NOT && b->nodes[g].level == lv
+                              ? b->nodes[g].lo : g;
+            if (!push(b, &sp, fl, gl))
+                return LW_BREF_INVALID;
+        } else {
+            uint32_t r = lw_bdd_mk(b, fr->level, fr->hi, ret);
+            if (r == LW_BREF_INVALID)
+                return LW_BREF_INVALID;
+            centry *c = &b->cache[hash3(op, fr->f, fr->g) &
+                                  (uint32_t)(b->ncache - 1)];
+            c->f = fr->f;
+            c->g = fr->g;
+            c->op = op;
+            c->r = r;
+            ret = r;
+            sp--;
+        }
+    }
+    return ret;
+}
+
+lw_bref lw_bdd_and(lw_bdd *b, lw_bref f, lw_bref g)
+{
+    return apply(b, OP_AND, f, g);
+}
+
+lw_bref lw_bdd_or(lw_bdd *b, lw_bref f, lw_bref g)
+{
+    return apply(b, OP_OR, f, g);
+}
+
+lw_bref lw_bdd_not(lw_bdd *b, lw_bref f)
+{
+    return apply(b, OP_NOT, f, 0);
+}
+
+lw_bref lw_bdd_atleast(lw_bdd *b, uint32_t k, const lw_bref *in, size_t n)
+{
+    if (k == 0)
+        return LW_BDD_TRUE;
+    if (k > n)
+        return LW_BDD_FALSE;
+    /* row[j] = at least j of in[i..n-1], for j = 0..k */
+    lw_bref *row = lw_malloc((k + 1) * sizeof *row);
+    if (!row) {
+        b->status = LW_ENOMEM;
+        return LW_BREF_INVALID;
+    }
+    row[0] = LW_BDD_TRUE;
+    for (uint32_t j = 1; j <= k; j++)
+        row[j] = LW_BDD_FALSE;
+    for (size_t i = n; i-- > 0;) {
+        size_t avail = n - i;           /* inputs in[i..n-1] */
+        uint32_t top = avail < k ? (uint32_t)avail : k;
+        size_t need_lo = k > i ? k - i : 1;   /* j below can't matter */
+        for (uint32_t j = top; j >= 1 && j >= need_lo; j--) {
+            lw_bref t = lw_bdd_and(b, in[i], row[j - 1]);
+            row[j] = lw_bdd_or(b, t, row[j]);
+            if (row[j] == LW_BREF_INVALID) {
+                lw_free(row);
+                return LW_BREF_INVALID;
+            }
+        }
+    }
+    lw_bref r = row[k];
+    lw_free(row);
+    return r;
+}
+
+size_t lw_bdd_size(const lw_bdd *b, lw_bref f)
+{
+    if (f == LW_BREF_INVALID)
+        return 0;
+    unsigned char *seen = lw_calloc(b->count, 1);
+    uint32_t *stack = lw_malloc(b->count * sizeof *stack);
+    size_t count = 0;
+    if (seen && stack) {
+        size_t sp = 0;
+        stack[sp++] = f;
+        seen[f] = 1;
+        while (sp) {
+            uint32_t x = stack[--sp];
+            count++;
+            if (x <= 1)
+                continue;
+            uint32_t c[2] = {b->nodes[x].hi, b->nodes[x].lo};
+            for (int i = 0; i < 2; i++)
+                if (!seen[c[i]]) {
+                    seen[c[i]] = 1;
+                    stack[sp++] = c[i];
+                }
+        }
+    }
+    lw_free(seen);
+    lw_free(stack);
+    return count;
+}
+
+/* ---- frozen diagrams ---------------------------------------------- */
+
+lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
+                            const uint32_t *level_var, lw_diagram **out,
+                            lw_error *err)
+{
+    *out = NULL;
+    uint32_t *map = lw_malloc(b->count * sizeof *map);
+    uint32_t *stack = lw_malloc(b->count * sizeof *stack);
+    lw_diagram *d = lw_calloc(1, sizeof *d);
+    if (!map || !stack || !d)
+        goto oom;
+    memset(map, 0xff, b->count * sizeof *map);
+    size_t sp = 0, n = 0;
+    map[0] = map[1] = 0;    /* mark terminals as seen */
+    if (f > 1) {
+        stack[sp++] = f;
+        map[f] = 0;
+    }
+    while (sp) {
+        uint32_t x = stack[--sp];
+        n++;
+        uint32_t c[2] = {b->nodes[x].hi, b->nodes[x].lo};
+        for (int i = 0; i < 2; i++)
+            if (map[c[i]] == UINT32_MAX) {
+                map[c[i]] = 0;
+                stack[sp++] = c[i];
+            }
+    }
+    n += 2;
+    d->n = (uint32_t)n;
+    d->level = lw_malloc(n * sizeof *d->level);
+    d->hi = lw_malloc(n * sizeof *d->hi);
+    d->lo = lw_malloc(n * sizeof *d->lo);
+    d->nlevels = nlevels;
+    d->level_var = lw_malloc((nlevels + 1) * sizeof *d->level_var);
+    if (!d->level || !d->hi || !d->lo || !d->level_var)
+        goto oom;
+    if (nlevels)
+        memcpy(d->level_var, level_var, nlevels * sizeof *level_var);
+    /* number reachable nodes in increasing index: a topological order */
+    uint32_t next = 2;
+    d->level[0] = d->level[1] = LW_LEVEL_TERMINAL;
+    d->hi[0] = d->lo[0] = 0;
+    d->hi[1] = d->lo[1] = 1;
+    map[1] = 1;
+    for (size_t i = 2; i < b->count && f > 1 && i <= f; i++) {
+        if (map[i] == UINT32_MAX)
+            continue;
+        map[i] = next;
+        d->level[next] = b->nodes[i].level;
+        d->hi[next] = map[b->nodes[i].hi];
+        d->lo[next] = map[b->nodes[i].lo];
+        next++;
+    }
+    d->root = f <= 1 ? f : map[f];
+    lw_free(map);
+    lw_free(stack);
+    *out = d;
+    return LW_OK;
+oom:
+    lw_free(map);
+    lw_free(stack);
+    lw_diagram_free(d);
+    return lw_error_oom(err);
+}
+
+void lw_diagram_free(lw_diagram *d)
+{
+    if (!d)
+        return;
+    lw_free(d->level);
+    lw_free(d->hi);
+    lw_free(d->lo);
+    lw_free(d->level_var);
+    lw_free(d);
+}
+
+double lw_diagram_prob(const lw_diagram *d, const double *q, double *w)
+{
+    w[0] = 0.0;
+    w[1] = 1.0;
+    const uint32_t *lv = d->level, *hi = d->hi, *lo = d->lo;
+    for (uint32_t i = 2; i < d->n; i++) {
+        double p = q[lv[i]];
+        w[i] = p * w[hi[i]] + (1.0 - p) * w[lo[i]];
+    }
+    return w[d->root];
+}
+
+double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
+                           double *birnbaum, lw_error *err, int *ok)
+{
+    *ok = 0;
+    double *w = lw_malloc(d->n * sizeof *w);
+    double *r = lw_calloc(d->n, sizeof *r);
+    if (!w || !r) {
+        lw_free(w);
+        lw_free(r);
+        lw_error_oom(err);
+        return 0.0;
+    }
+    double P = lw_diagram_prob(d, q, w);
+    for (uint32_t l = 0; l < d->nlevels; l++)
+        birnbaum[l] = 0.0;
+    r[d->root] = 1.0;
+    for (uint32_t i = d->n; i-- > 2;) {
+        double p = q[d->level[i]];
+        uint32_t h = d->hi[i], o = d->lo[i];
+        r[h] += r[i] * p;
+        r[o] += r[i] * (1.0 - p);
+        birnbaum[d->level[i]] += r[i] * (w[h] - w[o]);
+    }
+    lw_free(w);
+    lw_free(r);
+    *ok = 1;
+    return P;
+}

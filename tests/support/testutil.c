@@ -1,0 +1,141 @@
+/* testutil.c - see testutil.h. */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "testutil.h"
+
+lw_model *tu_load(const char *xml)
+{
+    lw_error err = LW_ERROR_INIT;
+    lw_model *m = NULL;
+    lw_status st = lw_model_load_memory(xml, strlen(xml), "test.xml", NULL,
+                                        &m, &err);
+    if (st != LW_OK) {
+        for (size_t i = 0; i < err.count; i++)
+            fprintf(stderr, "%s:%ld: %s\n", err.items[i].file,
+                    err.items[i].line, err.items[i].message);
+        lw_error_clear(&err);
+        fail_msg("model did not load (%s)", lw_status_name(st));
+    }
+    lw_error_clear(&err);
+    return m;
+}
+
+lw_status tu_load_fail(const char *xml, lw_error *err)
+{
+    lw_model *m = NULL;
+    lw_status st = lw_model_load_memory(xml, strlen(xml), "bad.xml", NULL,
+                                        &m, err);
+    if (st == LW_OK) {
+        lw_model_free(m);
+        fail_msg("model loaded but should have failed");
+    }
+    return st;
+}
+
+int tu_error_has(const lw_error *err, const char *needle, long *line)
+{
+    for (size_t i = 0; i < err->count; i++)
+        if (strstr(err->items[i].message, needle)) {
+            if (line)
+                *line = err->items[i].line;
+            return 1;
+        }
+    return 0;
+}
+
+int tu_eval(const lw_network *net, uint32_t g, uint64_t x)
+{
+    const lw_gate *gt = &net->gates[g];
+    const uint32_t *in = net->inputs + gt->first;
+    switch (gt->kind) {
+    case LW_GATE_FALSE: return 0;
+    case LW_GATE_TRUE: return 1;
+    case LW_GATE_VAR: return (int)((x >> gt->var) & 1u);
+    case LW_GATE_AND:
+        for (uint32_t i = 0; i < gt->nin; i++)
+            if (!tu_eval(net, in[i], x))
+                return 0;
+        return 1;
+    case LW_GATE_OR:
+        for (uint32_t i = 0; i < gt->nin; i++)
+            if (tu_eval(net, in[i], x))
+                return 1;
+        return 0;
+    case LW_GATE_VOTE: {
+        uint32_t c = 0;
+        for (uint32_t i = 0; i < gt->nin; i++)
+            c += (uint32_t)tu_eval(net, in[i], x);
+        return c >= gt->k;
+    }
+    }
+    return 0;
+}
+
+double tu_brute_prob(const lw_network *net, uint32_t gate,
+                     const double *var_p)
+{
+    size_t n = net->nvars;
+    assert_true(n <= 24);
+    double total = 0.0;
+    for (uint64_t x = 0; x < (1ull << n); x++) {
+        if (!tu_eval(net, gate, x))
+            continue;
+        double w = 1.0;
+        for (size_t v = 0; v < n; v++)
+            w *= ((x >> v) & 1u) ? var_p[v] : 1.0 - var_p[v];
+        total += w;
+    }
+    return total;
+}
+
+double tu_prob(const lw_model *m, size_t variant, size_t hazard)
+{
+    lw_error err = LW_ERROR_INIT;
+    lw_prepared *p = NULL;
+    lw_status st = lw_prepare(m, variant, hazard, NULL, &p, &err);
+    if (st != LW_OK) {
+        lw_error_clear(&err);
+        fail_msg("prepare failed: %s", lw_status_name(st));
+    }
+    double P = p->probability;
+    lw_prepared_free(p);
+    lw_error_clear(&err);
+    return P;
+}
+
+uint64_t tu_rand(uint64_t *s)
+{
+    uint64_t z = (*s += 0x9E3779B97F4A7C15ull);
+    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
+    z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
+    return z ^ (z >> 31);
+}
+
+double tu_uniform(uint64_t *s)
+{
+    return (double)(tu_rand(s) >> 11) * (1.0 / 9007199254740992.0);
+}
+
+const char *tu_source_path(const char *rel)
+{
+    static char buf[4096];
+    const char *root = getenv("LW_SOURCE_DIR");
+    snprintf(buf, sizeof buf, "%s/%s", root ? root : ".", rel);
+    return buf;
+}
+
+int tu_close(double a, double b, double tol)
+{
+    double s = fmax(fabs(a), fabs(b));
+    if (s < 1e-300)
+        return 1;
+    return fabs(a - b) <= tol * s;
+}

@@ -1,0 +1,50 @@
+/*
+ * testutil.h - helpers shared by the unit tests.
+ *
+ * Include after <setjmp.h>, <stdarg.h>, <stddef.h> and <cmocka.h>.
+ */
+#ifndef LW_TESTUTIL_H
+#define LW_TESTUTIL_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "layerwise/analysis.h"
+#include "layerwise/model.h"
+#include "layerwise/network.h"
+
+/* Load a model from a string; fails the test with the loader's messages
+ * when it does not load. */
+lw_model *tu_load(const char *xml);
+/* Load a model expected to fail; returns the error (caller clears). */
+lw_status tu_load_fail(const char *xml, lw_error *err);
+/* Does any diagnostic's message contain 'needle'? Its line in *line. */
+int tu_error_has(const lw_error *err, const char *needle, long *line);
+
+/* Exact P(gate) by enumerating every assignment of the network's
+ * variables (nvars <= 24): the independent reference for the BDD. */
+double tu_brute_prob(const lw_network *net, uint32_t gate,
+                     const double *var_p);
+/* Evaluate a gate under an assignment (bit v of 'x' = variable v). */
+int tu_eval(const lw_network *net, uint32_t gate, uint64_t x);
+/* The exact probability of a hazard via the library. */
+double tu_prob(const lw_model *m, size_t variant, size_t hazard);
+
+/* A small deterministic PRNG for generated tests. */
+uint64_t tu_rand(uint64_t *state);
+double tu_uniform(uint64_t *state);
+
+/* Path of a file in the source tree (LW_SOURCE_DIR or "."). */
+const char *tu_source_path(const char *rel);
+
+/* Relative closeness: |a - b| <= tol * max(|a|, |b|, tiny). */
+int tu_close(double a, double b, double tol);
+#define assert_close(a, b, tol)                                            \
+    do {                                                                   \
+        double a_ = (a), b_ = (b);                                         \
+        if (!tu_close(a_, b_, (tol)))                                      \
+            fail_msg("%s = %.17g, expected %.17g (rel tol %g)", #a, a_,   \
+                     b_, (double)(tol));                                   \
+    } while (0)
+
+#endif
