@@ -93,5 +93,6 @@ int cli_sink_close(cli_sink *s, int ok);
 
 int cmd_check(int argc, char **argv);
 int cmd_analyze(int argc, char **argv);
+int cmd_target(int argc, char **argv);
 
 #endif

@@ -20,6 +20,7 @@ typedef struct command {
 static const command commands[] = {
     {"check", cmd_check, "load and validate a model; list its parts"},
     {"analyze", cmd_analyze, "exact hazard probability, cut sets, importance"},
+    {"target", cmd_target, "the miss probability each safeguard must reach"},
 };
 
 static void print_usage(FILE *out)
