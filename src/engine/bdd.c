@@ -224,7 +224,7 @@ lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo)
     n->lo = lo;
     n->next = b->buckets[h];
     b->buckets[h] = i;
-    if (b->count > b->nbuckets) {
+    if (2 * b->count > b->nbuckets) {
         grow_buckets(b);
         if (b->ncache < b->count / 4)
             grow_cache(b);

@@ -147,6 +147,22 @@ static lw_status build_failed(lw_builder *bl, lw_error *err)
     return lw_error_oom(err);
 }
 
+/* Insertion-sort refs by the level of their top node, deepest first
+ * (inputs usually arrive nearly in order, so this is close to linear). */
+static void sort_by_depth(const lw_bdd *b, lw_bref *r, uint32_t n)
+{
+    for (uint32_t i = 1; i < n; i++) {
+        lw_bref x = r[i];
+        uint32_t lx = lw_bdd_level(b, x);
+        uint32_t j = i;
+        while (j > 0 && lw_bdd_level(b, r[j - 1]) < lx) {
+            r[j] = r[j - 1];
+            j--;
+        }
+        r[j] = x;
+    }
+}
+
 static lw_bref build_one(lw_builder *bl, uint32_t g)
 {
     const lw_network *net = bl->net;
@@ -159,10 +175,21 @@ static lw_bref build_one(lw_builder *bl, uint32_t g)
     case LW_GATE_VAR: return lw_bdd_var(b, bl->var_level[gt->var]);
     case LW_GATE_AND:
     case LW_GATE_OR: {
+        /* Fold from the deepest input up.  The order puts earlier inputs
+         * higher, so combining f (higher) with acc (lower) only walks f:
+         * below f's nodes the other operand is acc itself.  Folding the
+         * other way would copy the accumulated diagram at every step. */
+        lw_bref *ins = lw_grow(bl->ins, &bl->cap_ins, gt->nin, sizeof *ins);
+        if (!ins)
+            return LW_BREF_INVALID;
+        bl->ins = ins;
+        for (uint32_t i = 0; i < gt->nin; i++)
+            ins[i] = bl->memo[in[i]];
+        sort_by_depth(b, ins, gt->nin);
         lw_bref acc = gt->kind == LW_GATE_AND ? LW_BDD_TRUE : LW_BDD_FALSE;
         for (uint32_t i = 0; i < gt->nin; i++) {
-            acc = gt->kind == LW_GATE_AND ? lw_bdd_and(b, acc, bl->memo[in[i]])
-                                          : lw_bdd_or(b, acc, bl->memo[in[i]]);
+            acc = gt->kind == LW_GATE_AND ? lw_bdd_and(b, ins[i], acc)
+                                          : lw_bdd_or(b, ins[i], acc);
             if (acc == LW_BREF_INVALID)
                 return acc;
         }
