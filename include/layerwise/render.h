@@ -42,9 +42,11 @@ void lw_text_caution(FILE *out);
 
 void lw_render_analysis_text(FILE *out, const lw_model *m,
                              const lw_analysis *a, size_t top);
-/* One hazard's JSON object (keys of docs/cli.md).  NULL when out of
- * memory. */
-json_t *lw_analysis_json(const lw_model *m, const lw_analysis *a);
+/* One hazard's JSON object (keys of docs/cli.md), streamed: a result has
+ * a row for every event, and networks have hundreds of thousands. */
+struct lw_jw;
+void lw_analysis_write_json(struct lw_jw *w, const lw_model *m,
+                            const lw_analysis *a);
 /* The cut-set table (header row first). */
 void lw_render_cut_sets_csv(FILE *out, const lw_model *m,
                             const lw_analysis *a, bool header);

@@ -147,8 +147,10 @@ static lw_status importance(const lw_prepared *p, lw_analysis *a,
         r->birnbaum = B;
         r->p_true = P + (1.0 - q) * B;
         r->p_false = P - q * B;
-        if (r->p_false < 0)
-            r->p_false = 0;      /* rounding below zero */
+        /* P - q B cancels when x is necessary: a residue at the rounding
+         * level of P (either sign) is an exact zero, so RRW is null */
+        if (r->p_false <= 1e-12 * P)
+            r->p_false = 0;
         if (r->p_true > 1)
             r->p_true = 1;
         r->criticality = P > 0 ? B * q / P : 0;

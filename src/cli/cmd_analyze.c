@@ -3,6 +3,7 @@
 
 #include "cli/cli.h"
 #include "layerwise/alloc.h"
+#include "layerwise/jsonw.h"
 #include "layerwise/render.h"
 
 static const char help[] =
@@ -65,7 +66,13 @@ int cmd_analyze(int argc, char **argv)
         lw_model_free(m);
         return rc;
     }
-    json_t *arr = a.format == FMT_JSON ? json_array() : NULL;
+    lw_jw jw;
+    lw_jw_init(&jw, sink.fp);
+    if (a.format == FMT_JSON && nh > 1) {
+        lw_jw_begin_object(&jw);
+        lw_jw_key(&jw, "hazards");
+        lw_jw_begin_array(&jw);
+    }
     int ok = 1;
     for (size_t i = 0; i < nh && ok; i++) {
         lw_error err = LW_ERROR_INIT;
@@ -81,7 +88,7 @@ int cmd_analyze(int argc, char **argv)
             break;
         }
         if (a.format == FMT_JSON) {
-            json_array_append_new(arr, lw_analysis_json(m, res));
+            lw_analysis_write_json(&jw, m, res);
         } else if (a.format == FMT_CSV) {
             if (a.table && !strcmp(a.table, "importance"))
                 lw_render_importance_csv(sink.fp, m, res, i == 0);
@@ -94,21 +101,19 @@ int cmd_analyze(int argc, char **argv)
         }
         lw_analysis_free(res);
     }
-    if (ok && a.format == FMT_JSON) {
-        json_t *doc;
-        if (nh == 1) {
-            doc = json_incref(json_array_get(arr, 0));
-        } else {
-            doc = json_object();
-            json_object_set(doc, "hazards", arr);
-            json_object_set_new(doc, "caution", json_string(lw_caution()));
-        }
-        if (lw_json_write(sink.fp, doc))
-            ok = 0, rc = EXIT_INVALID;
+    if (ok && a.format == FMT_JSON && nh > 1) {
+        lw_jw_end_array(&jw);
+        lw_jw_key(&jw, "caution");
+        lw_jw_string(&jw, lw_caution());
+        lw_jw_end_object(&jw);
     } else if (ok && a.format == FMT_TEXT) {
         lw_text_caution(sink.fp);
     }
-    json_decref(arr);
+    if (ok && ferror(sink.fp)) {
+        fprintf(stderr, "layerwise: writing the output failed\n");
+        ok = 0;
+        rc = EXIT_INVALID;
+    }
     int crc = cli_sink_close(&sink, ok);
     if (!rc)
         rc = crc;

@@ -1,7 +1,9 @@
 /* analyze_out.c - the analyze result as text, JSON and CSV. */
 #include "layerwise/render.h"
+#include "layerwise/jsonw.h"
 
 #include <math.h>
+#include <stdlib.h>
 #include <string.h>
 
 static const char *hazard_id(const lw_model *m, const lw_analysis *a)
@@ -33,10 +35,16 @@ int lw_json_write(FILE *out, json_t *doc)
 {
     if (!doc)
         return -1;
-    int rc = json_dumpf(doc, out, JSON_INDENT(2) | JSON_REAL_PRECISION(17));
+    /* one string, one write: dumping straight to a FILE makes a call per
+     * token */
+    char *text = json_dumps(doc, JSON_INDENT(1) | JSON_REAL_PRECISION(17));
     json_decref(doc);
-    if (rc == 0)
-        fputc('\n', out);
+    if (!text)
+        return -1;
+    size_t len = strlen(text);
+    int rc = fwrite(text, 1, len, out) == len && fputc('\n', out) != EOF
+                 ? 0 : -1;
+    free(text);
     return rc;
 }
 
@@ -59,84 +67,108 @@ static void describe_var(char *buf, size_t n, const lw_model *m,
     }
 }
 
-static json_t *cut_set_json(const lw_network *net, const lw_cut_set *c)
-{
-    json_t *o = json_object();
-    json_t *ev = json_array();
-    for (size_t k = 0; k < c->order; k++)
-        json_array_append_new(ev, json_string(net->vars[c->vars[k]].name));
-    json_object_set_new(o, "events", ev);
-    json_object_set_new(o, "order", json_integer((json_int_t)c->order));
-    json_object_set_new(o, "probability", json_real(c->probability));
-    json_object_set_new(o, "share", json_real(c->share));
-    return o;
-}
-
-json_t *lw_analysis_json(const lw_model *m, const lw_analysis *a)
+void lw_analysis_write_json(lw_jw *w, const lw_model *m,
+                            const lw_analysis *a)
 {
     const lw_network *net = a->net;
     const lw_node *h = &m->nodes[m->hazards[a->hazard]];
-    json_t *o = json_object();
-    if (!o)
-        return NULL;
-    json_t *hz = json_object();
-    json_object_set_new(hz, "id", json_string(h->id));
-    json_object_set_new(hz, "label", h->label ? json_string(h->label)
-                                              : json_null());
-    json_object_set_new(o, "hazard", hz);
-    const char *vid = variant_id(m, a->variant);
-    json_object_set_new(o, "variant", vid ? json_string(vid) : json_null());
-    json_object_set_new(o, "probability", json_real(a->probability));
-    json_t *ap = json_object();
-    json_object_set_new(ap, "rare_event", json_real(a->rare_event));
-    json_object_set_new(ap, "min_cut_upper_bound",
-                        lw_json_number(a->min_cut_upper_bound,
-                                       a->mcub_exact));
-    json_object_set_new(o, "approximations", ap);
-    json_object_set_new(o, "per_year",
-                        lw_json_number(a->per_year, a->has_exposure));
-    json_object_set_new(o, "exposure_unit",
-                        m->exposure_unit ? json_string(m->exposure_unit)
-                                         : json_null());
-    json_object_set_new(o, "one_in",
-                        lw_json_number(a->one_in, a->probability > 0));
-    json_object_set_new(o, "tolerable",
-                        lw_json_number(a->tolerable, a->has_tolerable));
-    json_object_set_new(o, "meets_tolerable",
-                        a->has_tolerable ? json_boolean(a->meets_tolerable)
-                                         : json_null());
-    json_object_set_new(o, "cut_set_count", json_real(a->cut_set_count));
-    json_t *cs = json_array();
-    for (size_t i = 0; i < a->ncut_sets; i++)
-        json_array_append_new(cs, cut_set_json(net, &a->cut_sets[i]));
-    json_object_set_new(o, "cut_sets", cs);
-    json_object_set_new(o, "truncated", json_boolean(a->truncated));
-    json_object_set_new(o, "covered", json_real(a->covered));
-    json_t *imp = json_array();
+    lw_jw_begin_object(w);
+    lw_jw_key(w, "hazard");
+    lw_jw_begin_object(w);
+    lw_jw_key(w, "id");
+    lw_jw_string(w, h->id);
+    lw_jw_key(w, "label");
+    lw_jw_string(w, h->label);
+    lw_jw_end_object(w);
+    lw_jw_key(w, "variant");
+    lw_jw_string(w, variant_id(m, a->variant));
+    lw_jw_key(w, "probability");
+    lw_jw_number(w, a->probability);
+    lw_jw_key(w, "approximations");
+    lw_jw_begin_object(w);
+    lw_jw_key(w, "rare_event");
+    lw_jw_number(w, a->rare_event);
+    lw_jw_key(w, "min_cut_upper_bound");
+    lw_jw_number_or_null(w, a->min_cut_upper_bound, a->mcub_exact);
+    lw_jw_end_object(w);
+    lw_jw_key(w, "per_year");
+    lw_jw_number_or_null(w, a->per_year, a->has_exposure);
+    lw_jw_key(w, "exposure_unit");
+    lw_jw_string(w, m->exposure_unit);
+    lw_jw_key(w, "one_in");
+    lw_jw_number_or_null(w, a->one_in, a->probability > 0);
+    lw_jw_key(w, "tolerable");
+    if (a->has_tolerable)
+        lw_jw_number_short(w, a->tolerable);
+    else
+        lw_jw_null(w);
+    lw_jw_key(w, "meets_tolerable");
+    if (a->has_tolerable)
+        lw_jw_bool(w, a->meets_tolerable);
+    else
+        lw_jw_null(w);
+    lw_jw_key(w, "cut_set_count");
+    lw_jw_number(w, a->cut_set_count);
+    lw_jw_key(w, "cut_sets");
+    lw_jw_begin_array(w);
+    for (size_t i = 0; i < a->ncut_sets; i++) {
+        const lw_cut_set *c = &a->cut_sets[i];
+        lw_jw_begin_object(w);
+        lw_jw_key(w, "events");
+        lw_jw_begin_array(w);
+        for (size_t k = 0; k < c->order; k++)
+            lw_jw_string(w, net->vars[c->vars[k]].name);
+        lw_jw_end_array(w);
+        lw_jw_key(w, "order");
+        lw_jw_integer(w, (long long)c->order);
+        lw_jw_key(w, "probability");
+        lw_jw_number(w, c->probability);
+        lw_jw_key(w, "share");
+        lw_jw_number(w, c->share);
+        lw_jw_end_object(w);
+    }
+    lw_jw_end_array(w);
+    lw_jw_key(w, "truncated");
+    lw_jw_bool(w, a->truncated);
+    lw_jw_key(w, "covered");
+    lw_jw_number(w, a->covered);
+    lw_jw_key(w, "importance");
+    lw_jw_begin_array(w);
     for (size_t i = 0; i < a->nimportance; i++) {
         const lw_importance *r = &a->importance[i];
         const lw_var *v = &net->vars[r->var];
-        json_t *row = json_object();
-        json_object_set_new(row, "id", json_string(v->name));
-        json_object_set_new(row, "kind", json_string(lw_var_kind_name(v->kind)));
-        json_object_set_new(row, "label", v->label ? json_string(v->label)
-                                                   : json_null());
-        json_object_set_new(row, "p", json_real(r->p));
-        json_object_set_new(row, "birnbaum", json_real(r->birnbaum));
-        json_object_set_new(row, "criticality", json_real(r->criticality));
-        json_object_set_new(row, "fussell_vesely",
-                            json_real(r->fussell_vesely));
-        json_object_set_new(row, "raw", lw_json_number(r->raw,
-                                                       a->probability > 0));
-        json_object_set_new(row, "rrw", lw_json_number(r->rrw,
-                                                       r->rrw_defined));
-        json_array_append_new(imp, row);
+        lw_jw_begin_object(w);
+        lw_jw_key(w, "id");
+        lw_jw_string(w, v->name);
+        lw_jw_key(w, "kind");
+        lw_jw_string(w, lw_var_kind_name(v->kind));
+        lw_jw_key(w, "label");
+        lw_jw_string(w, v->label);
+        lw_jw_key(w, "p");
+        lw_jw_number(w, r->p);
+        lw_jw_key(w, "birnbaum");
+        lw_jw_number(w, r->birnbaum);
+        lw_jw_key(w, "criticality");
+        lw_jw_number(w, r->criticality);
+        lw_jw_key(w, "fussell_vesely");
+        lw_jw_number(w, r->fussell_vesely);
+        lw_jw_key(w, "raw");
+        lw_jw_number_or_null(w, r->raw, a->probability > 0);
+        lw_jw_key(w, "rrw");
+        lw_jw_number_or_null(w, r->rrw, r->rrw_defined);
+        lw_jw_end_object(w);
     }
-    json_object_set_new(o, "importance", imp);
-    json_object_set_new(o, "bdd_nodes", json_integer((json_int_t)a->bdd_nodes));
-    json_object_set_new(o, "warnings", lw_json_warnings(m));
-    json_object_set_new(o, "caution", json_string(lw_caution()));
-    return o;
+    lw_jw_end_array(w);
+    lw_jw_key(w, "bdd_nodes");
+    lw_jw_integer(w, (long long)a->bdd_nodes);
+    lw_jw_key(w, "warnings");
+    lw_jw_begin_array(w);
+    for (size_t i = 0; i < m->nwarnings; i++)
+        lw_jw_string(w, m->warnings[i]);
+    lw_jw_end_array(w);
+    lw_jw_key(w, "caution");
+    lw_jw_string(w, lw_caution());
+    lw_jw_end_object(w);
 }
 
 static void print_rule(FILE *out)
