@@ -24,9 +24,17 @@ typedef struct lw_jw {
     int depth;
     bool first[LW_JW_MAX_DEPTH];    /* no member written yet at a depth */
     bool after_key;                 /* a key was just written */
+    size_t len;                     /* bytes waiting in buf */
+    char buf[1 << 16];              /* output buffer */
 } lw_jw;
 
 void lw_jw_init(lw_jw *w, FILE *out);
+/* A finite double with 17 significant digits that reads back exactly
+ * (fast; see jsonw.c).  Returns the length written. */
+int lw_format_double(char *buf, size_t n, double x);
+/* Write out what is buffered (done by itself when the outermost value
+ * closes). */
+void lw_jw_flush(lw_jw *w);
 void lw_jw_begin_object(lw_jw *w);
 void lw_jw_end_object(lw_jw *w);
 void lw_jw_begin_array(lw_jw *w);
