@@ -92,8 +92,9 @@ const uint32_t *lw_builder_var_level(const lw_builder *bl); /* var->level,
 
 /* ---- frozen diagrams ---------------------------------------------- */
 
-/* A compact copy of one function: nodes in topological order, children
- * before parents, terminals at 0 and 1, the root last. */
+/* A compact copy of one function: nodes grouped by level, deepest level
+ * first (so children come before parents), terminals at 0 and 1, the
+ * root last. */
 typedef struct lw_diagram {
     uint32_t n;             /* nodes, terminals included */
     uint32_t root;          /* index of the root (0 or 1 when constant) */
@@ -117,6 +118,10 @@ double lw_diagram_prob(const lw_diagram *d, const double *q, double *work);
  * one top-down pass; 'birnbaum' receives d->nlevels values.  Returns P. */
 double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
                            double *birnbaum, lw_error *err, int *ok);
+/* The same with caller-owned work space: 'wr' holds 2 * d->n doubles
+ * (the nodes' probabilities, then the probabilities of reaching them). */
+double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
+                                double *birnbaum, double *wr);
 
 /* ---- minimal cut sets ------------------------------------------------ */
 

@@ -459,20 +459,39 @@ lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
         goto oom;
     if (nlevels)
         memcpy(d->level_var, level_var, nlevels * sizeof *level_var);
-    /* number reachable nodes in increasing index: a topological order */
-    uint32_t next = 2;
+    /* Number the reachable nodes level by level, deepest first (a
+     * counting sort; increasing index within a level).  Children lie on
+     * deeper levels, so this is still a topological order, and nodes that
+     * the passes touch together sit together in memory. */
     d->level[0] = d->level[1] = LW_LEVEL_TERMINAL;
     d->hi[0] = d->lo[0] = 0;
     d->hi[1] = d->lo[1] = 1;
     map[1] = 1;
-    for (size_t i = 2; i < b->count && f > 1 && i <= f; i++) {
-        if (map[i] == UINT32_MAX)
-            continue;
-        map[i] = next;
-        d->level[next] = b->nodes[i].level;
-        d->hi[next] = map[b->nodes[i].hi];
-        d->lo[next] = map[b->nodes[i].lo];
-        next++;
+    if (f > 1) {
+        uint32_t *start = lw_calloc((size_t)nlevels + 1, sizeof *start);
+        if (!start)
+            goto oom;
+        for (size_t i = 2; i <= f; i++)
+            if (map[i] != UINT32_MAX)
+                start[b->nodes[i].level]++;
+        uint32_t pos = 2;
+        for (uint32_t l = nlevels; l-- > 0;) {
+            uint32_t c = start[l];
+            start[l] = pos;
+            pos += c;
+        }
+        for (size_t i = 2; i <= f; i++)
+            if (map[i] != UINT32_MAX)
+                map[i] = start[b->nodes[i].level]++;
+        lw_free(start);
+        for (size_t i = 2; i <= f; i++) {
+            if (map[i] == UINT32_MAX)
+                continue;
+            uint32_t k = map[i];
+            d->level[k] = b->nodes[i].level;
+            d->hi[k] = map[b->nodes[i].hi];
+            d->lo[k] = map[b->nodes[i].lo];
+        }
     }
     d->root = f <= 1 ? f : map[f];
     lw_free(map);
@@ -509,31 +528,54 @@ double lw_diagram_prob(const lw_diagram *d, const double *q, double *w)
     return w[d->root];
 }
 
+double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
+                                double *birnbaum, double *wr)
+{
+    const uint32_t *lv = d->level, *hi = d->hi, *lo = d->lo;
+    double *w = wr, *r = wr + d->n;
+    w[0] = 0.0;
+    w[1] = 1.0;
+    r[0] = r[1] = 0.0;
+    for (uint32_t i = 2; i < d->n; i++) {
+        double p = q[lv[i]];
+        w[i] = p * w[hi[i]] + (1.0 - p) * w[lo[i]];
+        r[i] = 0.0;
+    }
+    memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
+    r[d->root] = 1.0;
+    /* nodes of one level are contiguous: sum a level's share in a
+     * register and store it once, instead of a store per node */
+    uint32_t cur = d->n > 2 ? lv[d->n - 1] : 0;
+    double acc = 0.0;
+    for (uint32_t i = d->n; i-- > 2;) {
+        uint32_t l = lv[i];
+        if (l != cur) {
+            birnbaum[cur] += acc;
+            acc = 0.0;
+            cur = l;
+        }
+        double p = q[l], ri = r[i], a = ri * p;
+        uint32_t h = hi[i], o = lo[i];
+        r[h] += a;
+        r[o] += ri - a;
+        acc += ri * (w[h] - w[o]);
+    }
+    if (d->n > 2)
+        birnbaum[cur] += acc;
+    return w[d->root];
+}
+
 double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
                            double *birnbaum, lw_error *err, int *ok)
 {
     *ok = 0;
-    double *w = lw_malloc(d->n * sizeof *w);
-    double *r = lw_calloc(d->n, sizeof *r);
-    if (!w || !r) {
-        lw_free(w);
-        lw_free(r);
+    double *wr = lw_malloc(2 * (size_t)d->n * sizeof *wr);
+    if (!wr) {
         lw_error_oom(err);
         return 0.0;
     }
-    double P = lw_diagram_prob(d, q, w);
-    for (uint32_t l = 0; l < d->nlevels; l++)
-        birnbaum[l] = 0.0;
-    r[d->root] = 1.0;
-    for (uint32_t i = d->n; i-- > 2;) {
-        double p = q[d->level[i]];
-        uint32_t h = d->hi[i], o = d->lo[i];
-        r[h] += r[i] * p;
-        r[o] += r[i] * (1.0 - p);
-        birnbaum[d->level[i]] += r[i] * (w[h] - w[o]);
-    }
-    lw_free(w);
-    lw_free(r);
+    double P = lw_diagram_birnbaum_into(d, q, birnbaum, wr);
+    lw_free(wr);
     *ok = 1;
     return P;
 }

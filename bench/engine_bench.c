@@ -1,0 +1,145 @@
+/*
+ * engine_bench.c - what each analysis costs against one probability pass.
+ *
+ *   engine-bench MODEL.xml [REPEATS]
+ *
+ * Loads and prepares the model's first hazard, then times (median of
+ * REPEATS, warm buffers): one probability pass; all Birnbaum values (one
+ * bottom-up and one top-down pass); the Fussell-Vesely pass over the cut
+ * set family; everything analyze does per event; building the cut-set
+ * family; and the ten most probable cut sets.  Ratios to the probability
+ * pass are printed, since absolute times depend on the machine.
+ */
+#define _POSIX_C_SOURCE 200809L
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "layerwise/alloc.h"
+#include "layerwise/analysis.h"
+#include "layerwise/bdd.h"
+
+static double now(void)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static double median(double *v, int n)
+{
+    qsort(v, (size_t)n, sizeof *v, cmp_double);
+    return v[n / 2];
+}
+
+int main(int argc, char **argv)
+{
+    if (argc < 2) {
+        fprintf(stderr, "usage: engine-bench MODEL.xml [REPEATS]\n");
+        return 2;
+    }
+    int reps = argc > 2 ? atoi(argv[2]) : 11;
+    if (reps < 1 || reps > 1000)
+        reps = 11;
+    lw_error err = LW_ERROR_INIT;
+    lw_model *m = NULL;
+    double t0 = now();
+    if (lw_model_load_file(argv[1], NULL, &m, &err) != LW_OK) {
+        fprintf(stderr, "cannot load %s\n", argv[1]);
+        return 1;
+    }
+    double t_load = now() - t0;
+    lw_options opt;
+    lw_options_init(&opt);
+    lw_prepared *p = NULL;
+    t0 = now();
+    if (lw_prepare(m, LW_NONE, 0, &opt, &p, &err) != LW_OK) {
+        fprintf(stderr, "cannot prepare\n");
+        return 1;
+    }
+    double t_prepare = now() - t0;
+    const lw_diagram *d = p->diagram;
+    double *w = malloc(d->n * sizeof *w), *r = malloc(2 * d->n * sizeof *r);
+    double *b = malloc((d->nlevels + 1) * sizeof *b);
+    double *fv = malloc((d->nlevels + 1) * sizeof *fv);
+    double *t = malloc((size_t)reps * sizeof *t);
+    double sink = 0;
+
+    for (int i = 0; i < reps; i++) {
+        t0 = now();
+        sink += lw_diagram_prob(d, p->q, w);
+        t[i] = now() - t0;
+    }
+    double t_prob = median(t, reps);
+    for (int i = 0; i < reps; i++) {
+        t0 = now();
+        sink += lw_diagram_birnbaum_into(d, p->q, b, r);
+        t[i] = now() - t0;
+    }
+    double t_birn = median(t, reps);
+
+    lw_cut_family *f = NULL;
+    t0 = now();
+    if (lw_cut_family_new(d, p->q, 0, &f, &err) != LW_OK) {
+        fprintf(stderr, "cut sets failed\n");
+        return 1;
+    }
+    double t_fam = now() - t0;
+    for (int i = 0; i < reps; i++) {
+        t0 = now();
+        lw_cut_family_fussell_vesely(f, fv, &err);
+        t[i] = now() - t0;
+    }
+    double t_fv = median(t, reps);
+    for (int i = 0; i < reps; i++) {
+        t0 = now();
+        double P = lw_diagram_birnbaum_into(d, p->q, b, r);
+        lw_cut_family_fussell_vesely(f, fv, &err);
+        for (uint32_t l = 0; l < p->hazard_levels; l++) {
+            double q = p->q[l], pt = P + (1 - q) * b[l], pf = P - q * b[l];
+            sink += b[l] * q / P + pt / P + (pf > 0 ? P / pf : 0) + fv[l];
+        }
+        t[i] = now() - t0;
+    }
+    double t_imp = median(t, reps);
+    lw_level_set *sets = NULL;
+    size_t ns = 0;
+    bool more = false;
+    t0 = now();
+    lw_cut_family_top(f, 10, 0, 0, &sets, &ns, &more, &err);
+    double t_top = now() - t0;
+
+    printf("model            %s\n", argv[1]);
+    printf("events/levels    %u   BDD nodes %u   cut-set ZBDD nodes %zu   "
+           "cut sets %.6g\n", p->nlevels, d->n, lw_cut_family_nodes(f),
+           lw_cut_family_count(f));
+    printf("load             %9.4f s\n", t_load);
+    printf("prepare          %9.4f s  (compile, order, build, freeze)\n",
+           t_prepare);
+    printf("probability pass %9.6f s  1.00x\n", t_prob);
+    printf("all Birnbaum     %9.6f s  %.2fx\n", t_birn, t_birn / t_prob);
+    printf("Fussell-Vesely   %9.6f s  %.2fx\n", t_fv, t_fv / t_prob);
+    printf("all importances  %9.6f s  %.2fx  (Birnbaum, criticality, RAW, "
+           "RRW, FV)\n", t_imp, t_imp / t_prob);
+    printf("cut-set family   %9.4f s  %.1fx\n", t_fam, t_fam / t_prob);
+    printf("top 10 cut sets  %9.6f s\n", t_top);
+    if (sink == 12345.678)
+        printf("\n");
+    lw_level_sets_free(sets, ns);
+    lw_cut_family_free(f);
+    lw_prepared_free(p);
+    lw_model_free(m);
+    free(w);
+    free(r);
+    free(b);
+    free(fv);
+    free(t);
+    return 0;
+}
