@@ -58,6 +58,9 @@ typedef struct lw_prepared {
 lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
                      const lw_options *opt, lw_prepared **out, lw_error *err);
 void lw_prepared_free(lw_prepared *p);
+/* Free the BDD manager once only the frozen diagram is needed (it holds
+ * every intermediate node of the build); p->builder becomes NULL. */
+void lw_prepared_drop_builder(lw_prepared *p);
 
 /* ---- analyze -------------------------------------------------------- */
 

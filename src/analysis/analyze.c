@@ -216,6 +216,7 @@ lw_status lw_analyze(const lw_model *m, size_t variant, size_t hazard,
     lw_status st = lw_prepare(m, variant, hazard, opt, &p, err);
     if (st != LW_OK)
         return st;
+    lw_prepared_drop_builder(p);    /* peak memory: keep only the diagram */
     st = lw_analyze_prepared(p, opt, out, err);
     if (st != LW_OK) {
         lw_prepared_free(p);

@@ -29,6 +29,14 @@ void lw_options_init(lw_options *o)
     o->max_cut_sets = 1000000;
 }
 
+void lw_prepared_drop_builder(lw_prepared *p)
+{
+    if (!p)
+        return;
+    lw_builder_free(p->builder);
+    p->builder = NULL;
+}
+
 void lw_prepared_free(lw_prepared *p)
 {
     if (!p)
