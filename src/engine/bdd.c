@@ -206,7 +206,7 @@ lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo)
         return LW_BREF_INVALID;
     }
     if (b->count == b->cap) {
-        size_t ncap = b->cap * 2;
+        size_t ncap = b->cap + b->cap / 2;    /* 1.5x: less overshoot */
         if (ncap > b->max_nodes + 2)
             ncap = b->max_nodes + 2;
         node *nn = lw_realloc(b->nodes, ncap * sizeof *nn);
@@ -224,7 +224,7 @@ lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo)
     n->lo = lo;
     n->next = b->buckets[h];
     b->buckets[h] = i;
-    if (2 * b->count > b->nbuckets) {
+    if (b->count > b->nbuckets) {
         grow_buckets(b);
         if (b->ncache < b->count / 4)
             grow_cache(b);
@@ -426,29 +426,25 @@ lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
                             lw_error *err)
 {
     *out = NULL;
-    uint32_t *map = lw_malloc(b->count * sizeof *map);
-    uint32_t *stack = lw_malloc(b->count * sizeof *stack);
+    size_t span = f > 1 ? (size_t)f + 1 : 2;
+    uint32_t *map = lw_malloc(span * sizeof *map);
     lw_diagram *d = lw_calloc(1, sizeof *d);
-    if (!map || !stack || !d)
+    if (!map || !d)
         goto oom;
-    memset(map, 0xff, b->count * sizeof *map);
-    size_t sp = 0, n = 0;
-    map[0] = map[1] = 0;    /* mark terminals as seen */
-    if (f > 1) {
-        stack[sp++] = f;
+    /* Mark what f reaches by one sweep down the indices: a node's children
+     * have smaller indices, so every node is marked before it is read. */
+    memset(map, 0xff, span * sizeof *map);
+    size_t n = 2;
+    map[0] = map[1] = 0;
+    if (f > 1)
         map[f] = 0;
-    }
-    while (sp) {
-        uint32_t x = stack[--sp];
+    for (size_t i = span; i-- > 2;) {
+        if (map[i] == UINT32_MAX)
+            continue;
         n++;
-        uint32_t c[2] = {b->nodes[x].hi, b->nodes[x].lo};
-        for (int i = 0; i < 2; i++)
-            if (map[c[i]] == UINT32_MAX) {
-                map[c[i]] = 0;
-                stack[sp++] = c[i];
-            }
+        map[b->nodes[i].hi] = 0;
+        map[b->nodes[i].lo] = 0;
     }
-    n += 2;
     d->n = (uint32_t)n;
     d->level = lw_malloc(n * sizeof *d->level);
     d->hi = lw_malloc(n * sizeof *d->hi);
@@ -495,12 +491,10 @@ lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
     }
     d->root = f <= 1 ? f : map[f];
     lw_free(map);
-    lw_free(stack);
     *out = d;
     return LW_OK;
 oom:
     lw_free(map);
-    lw_free(stack);
     lw_diagram_free(d);
     return lw_error_oom(err);
 }
