@@ -6,6 +6,7 @@
 #include <getopt.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "common/numparse.h"
 
@@ -89,7 +90,7 @@ static unsigned needs(int key)
     case K_EVENT: case K_FROM: case K_TO: case K_STEPS: case K_LOGSCALE:
         return OPT_SWEEP;
     case K_FAILED: case K_HELD: return OPT_INCIDENT;
-    case K_LOG: return OPT_LOG;
+    case K_LOG: return OPT_LOG | OPT_SWEEP;   /* sweep: --log = log steps */
     default: return 0;      /* limits and --help: every command */
     }
 }
@@ -252,6 +253,8 @@ int cli_parse(int argc, char **argv, unsigned accept, const char *help,
     if (optind + 1 < argc)
         return usage("one model at a time; unexpected %s", argv[optind + 1]);
     a->model = argv[optind];
+    cli_note_input(0, a->model);
+    cli_note_input(1, a->log_path);
     if (a->format == FMT_CSV && (accept & OPT_CUTS) == 0 && !(accept & OPT_CSV))
         return usage("%s", "csv is not available for this command");
     return 0;
@@ -341,12 +344,43 @@ int cli_variant(const lw_model *m, const char *id, size_t *out)
     return 0;
 }
 
+/* The model (and log) named on the command line: an output must never
+ * replace them. */
+static const char *g_inputs[2];
+
+void cli_note_input(int slot, const char *path)
+{
+    if (slot >= 0 && slot < 2)
+        g_inputs[slot] = path;
+}
+
+/* Is 'out' the same file as an input (same device and inode)? */
+static const char *is_an_input(const char *out)
+{
+    struct stat so, si;
+    if (stat(out, &so) != 0)
+        return NULL;
+    for (int i = 0; i < 2; i++)
+        if (g_inputs[i] && strcmp(g_inputs[i], "-") &&
+            stat(g_inputs[i], &si) == 0 && si.st_dev == so.st_dev &&
+            si.st_ino == so.st_ino)
+            return g_inputs[i];
+    return NULL;
+}
+
 int cli_sink_open(cli_sink *s, const char *path)
 {
     memset(s, 0, sizeof *s);
     if (!path || !strcmp(path, "-")) {
         s->fp = stdout;
         return 0;
+    }
+    const char *in = is_an_input(path);
+    if (in) {
+        fprintf(stderr, "layerwise: %s: -o names an input file (%s); "
+                "inputs are never overwritten, choose another output\n",
+                path, in);
+        return EXIT_USAGE;
     }
     lw_error err = LW_ERROR_INIT;
     if (lw_out_open(&s->file, path, &err) != LW_OK) {

@@ -88,11 +88,20 @@ typedef struct cli_sink {
     lw_out file;
     bool to_file;
 } cli_sink;
+/* Refuses (exit 2) a path that is one of the inputs noted by cli_parse. */
 int cli_sink_open(cli_sink *s, const char *path);
+void cli_note_input(int slot, const char *path);
 int cli_sink_close(cli_sink *s, int ok);
 
 int cmd_check(int argc, char **argv);
 int cmd_analyze(int argc, char **argv);
 int cmd_target(int argc, char **argv);
+int cmd_uncertainty(int argc, char **argv);
+int cmd_compare(int argc, char **argv);
+int cmd_sweep(int argc, char **argv);
+int cmd_report(int argc, char **argv);
+int cmd_diagram(int argc, char **argv);
+int cmd_incident(int argc, char **argv);
+int cmd_learn(int argc, char **argv);
 
 #endif

@@ -5,6 +5,7 @@
  * algorithms recurse once per variable level, and hospital-wide models
  * can have hundreds of thousands of them.
  */
+#include <gsl/gsl_errno.h>
 #include <pthread.h>
 #include <stdio.h>
 #include <string.h>
@@ -21,6 +22,13 @@ static const command commands[] = {
     {"check", cmd_check, "load and validate a model; list its parts"},
     {"analyze", cmd_analyze, "exact hazard probability, cut sets, importance"},
     {"target", cmd_target, "the miss probability each safeguard must reach"},
+    {"uncertainty", cmd_uncertainty, "Monte Carlo: how sure the hazard chance is"},
+    {"compare", cmd_compare, "baseline against variants, point and paired samples"},
+    {"sweep", cmd_sweep, "the hazard chance as one event's probability varies"},
+    {"report", cmd_report, "a self-contained HTML report for a risk committee"},
+    {"diagram", cmd_diagram, "the tree as a picture: SVG (Graphviz) or DOT"},
+    {"incident", cmd_incident, "after an incident: what the misses completed, what stood"},
+    {"learn", cmd_learn, "update safeguard estimates from a near-miss log"},
 };
 
 static void print_usage(FILE *out)
@@ -49,6 +57,9 @@ static void *run_job(void *arg)
 
 int main(int argc, char **argv)
 {
+    /* GSL's default reaction to a numerical failure is abort(); layerwise
+     * checks results itself */
+    gsl_set_error_handler_off();
     if (argc < 2) {
         print_usage(stderr);
         return EXIT_USAGE;

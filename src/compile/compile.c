@@ -530,8 +530,11 @@ void lw_network_var_probs(const lw_network *net, const double *event_p,
             double r = q >= 1.0 ? 0.0 : (p - q) / (1.0 - q);
             var_p[v] = r < 0.0 ? 0.0 : r;
         } else {
+            /* an absent layer (or one with p = 1) misses whatever the
+             * first check did: the THERP success branch p(1 - w) is for
+             * a basic probability below 1 */
             double w = lw_level_weight(net->level[pv->dep]);
-            var_p[v] = p * (1.0 - w);
+            var_p[v] = p >= 1.0 ? 1.0 : p * (1.0 - w);
         }
     }
 }

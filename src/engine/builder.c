@@ -167,7 +167,8 @@ static lw_bref build_one(lw_builder *bl, uint32_t g)
 {
     const lw_network *net = bl->net;
     const lw_gate *gt = &net->gates[g];
-    const uint32_t *in = net->inputs + gt->first;
+    /* no gate has inputs in a network of single events: inputs is NULL */
+    const uint32_t *in = net->inputs ? net->inputs + gt->first : NULL;
     lw_bdd *b = bl->bdd;
     switch (gt->kind) {
     case LW_GATE_FALSE: return LW_BDD_FALSE;

@@ -91,7 +91,17 @@ static void nomem(loader *L)
     L->failed = 1;
 }
 
-static long line_of(xmlNodePtr n) { return (long)xmlGetLineNo(n); }
+/* The line where an element's start tag begins (set by mark_begin_lines
+ * in _private), else libxml2's own line; an attribute reports its
+ * element's line. */
+static long line_of(xmlNodePtr n)
+{
+    if (n && n->type == XML_ATTRIBUTE_NODE && n->parent)
+        n = n->parent;
+    if (n && n->type == XML_ELEMENT_NODE && n->_private)
+        return (long)(intptr_t)n->_private;
+    return n ? (long)xmlGetLineNo(n) : 0;
+}
 
 static const char *ename(xmlNodePtr n) { return (const char *)n->name; }
 
@@ -148,7 +158,13 @@ static int check_text_len(loader *L, xmlNodePtr n, const char *what,
 static const char *kind_word(int idkind, const lw_model *m, size_t index)
 {
     switch (idkind) {
-    case ID_NODE: return lw_node_kind_name(m->nodes[index].kind);
+    case ID_NODE:
+        switch (m->nodes[index].kind) {
+        case LW_NODE_ALL: return "gate <all>";
+        case LW_NODE_ANY: return "gate <any>";
+        case LW_NODE_VOTE: return "gate <vote>";
+        default: return lw_node_kind_name(m->nodes[index].kind);
+        }
     case ID_GROUP: return "common-cause";
     case ID_DEP: return "dependence";
     default: return "variant";
@@ -596,6 +612,8 @@ static void build_variant(loader *L, xmlNodePtr x)
             fail(L, s->line, "<set ref=\"%s\"> must change exactly one of "
                  "p, present, state, beta, level (it names %d)",
                  raw[vi][si].ref ? raw[vi][si].ref : "", found);
+            lw_free(raw[vi][si].ref);   /* check_variants skips it */
+            raw[vi][si].ref = NULL;
             continue;
         }
         const char *val = raw[vi][si].attr_value;
@@ -758,10 +776,13 @@ static void find_cycles(loader *L)
                 if (w == LW_NONE)
                     continue;
                 if (color[w] == 1) {
-                    fail(L, nv->line, "a cycle: %s \"%s\" uses \"%s\" "
+                    fail(L, nv->line, "a cycle: %s%s%s%s uses \"%s\" "
                          "(line %ld), which leads back to it; a model must "
                          "not depend on itself",
-                         lw_node_kind_name(nv->kind), nv->id ? nv->id : "?",
+                         nv->id ? lw_node_kind_name(nv->kind) : "an unnamed <",
+                         nv->id ? " \"" : lw_node_kind_name(nv->kind),
+                         nv->id ? nv->id : "> gate",
+                         nv->id ? "\"" : "",
                          m->nodes[w].id ? m->nodes[w].id : "?",
                          m->nodes[w].line);
                     reported = 1;
@@ -802,7 +823,7 @@ static void check_groups(loader *L)
         const char *raw = L->group_members_raw[gi];
         if (!raw)
             continue;
-        size_t cap = 0;
+        size_t cap = 0, listed = 0;
         const char *p = raw;
         while (*p) {
             while (*p == ' ' || *p == '\t' || *p == '\n' || *p == '\r')
@@ -817,6 +838,7 @@ static void check_groups(loader *L)
                 nomem(L);
                 break;
             }
+            listed++;
             size_t tag;
             if (!lookup(L, tok, &tag)) {
                 fail(L, g->line, "<common-cause id=\"%s\"> member \"%s\" is "
@@ -857,7 +879,7 @@ static void check_groups(loader *L)
             lw_free(tok);
             p = q;
         }
-        if (g->nmembers < 2 && !L->failed)
+        if (listed < 2 && !L->oom)
             fail(L, g->line, "<common-cause id=\"%s\"> needs at least two "
                  "member events", g->id ? g->id : "");
     }
@@ -913,7 +935,9 @@ static void check_groups(loader *L)
         first_of[idx[1]] = di;
     }
     /* dependence chains must not loop: follow first_of from each second */
-    for (size_t di = 0; di < m->ndeps && !L->failed; di++) {
+    for (size_t di = 0; di < m->ndeps && !L->oom; di++) {
+        if (first_of[m->deps[di].second] != di)
+            continue;       /* not resolved, or rejected above */
         size_t e = m->deps[di].second;
         size_t steps = 0;
         while (e != LW_NONE && first_of[e] != LW_NONE && steps <= m->ndeps) {
@@ -1054,7 +1078,41 @@ static void check_unused(loader *L)
 typedef struct xml_sink {
     loader *L;
     int count;
+    const char *data;           /* the document's bytes */
+    size_t len;
+    long entity_line;           /* first <!ENTITY line, 0 none, -1 unknown */
+    int entity_reported;
+    long last_line;             /* the last diagnostic, to drop repeats */
+    char last[256];
 } xml_sink;
+
+static long entity_decl_line(const char *d, size_t len);
+
+static const char entity_msg[] =
+    "the DOCTYPE declares entities; layerwise never expands entities or "
+    "loads DTDs, so remove the DOCTYPE and write the text out";
+
+/* libxml2's "'V' is not a valid value of the atomic type 'T'." that
+ * follows a pattern message for the same value.  Tested at the END of the
+ * message, so that a value holding those words is not mistaken for it. */
+static int repeats_pattern(const char *msg)
+{
+    const char *last = NULL;
+    for (const char *p = strstr(msg, " is not a valid value of the "); p;
+         p = strstr(p + 1, " is not a valid value of the "))
+        last = p;
+    if (!last)
+        return 0;
+    last += strlen(" is not a valid value of the ");
+    if (!strncmp(last, "atomic type '", 13))
+        last += 13;
+    else if (!strncmp(last, "list type '", 11))
+        last += 11;
+    else
+        return 0;
+    const char *q = strchr(last, '\'');
+    return q && (!strcmp(q, "'") || !strcmp(q, "'."));
+}
 
 /* Rewrite libxml2's schema wording where a plainer message helps. */
 static void xml_error_cb(void *ud, xmlErrorPtr e)
@@ -1068,14 +1126,38 @@ static void xml_error_cb(void *ud, xmlErrorPtr e)
     size_t len = strlen(msg);
     while (len && (msg[len - 1] == '\n' || msg[len - 1] == ' '))
         msg[--len] = '\0';
-    if (strstr(msg, "is not a valid value of the atomic type") ||
-        strstr(msg, "is not a valid value of the list type"))
+    for (char *nl = strchr(msg, '\n'); nl; nl = strchr(nl, '\n'))
+        *nl = ' ';      /* one message, one line */
+    const char *bytes = strstr(msg, "Bytes: ");
+    if (strstr(msg, "not proper UTF-8") && bytes) {
+        char b[64];
+        snprintf(b, sizeof b, "%s", bytes + 7);
+        snprintf(msg, sizeof msg, "the text is not valid UTF-8 (bytes %s); "
+                 "save the file as UTF-8 or name its encoding in the XML "
+                 "declaration", b);
+    }
+    if (e->domain == XML_FROM_SCHEMASV && repeats_pattern(msg)) {
+        L->failed = 1;
         return;     /* follows a pattern message for the same value */
+    }
     lw_status code = e->domain == XML_FROM_SCHEMASV ? LW_EMODEL : LW_EPARSE;
     long line = e->line;
     if (e->domain == XML_FROM_SCHEMASV && e->node)
-        line = (long)xmlGetLineNo((xmlNodePtr)e->node);
+        line = line_of((xmlNodePtr)e->node);
     const char *hint = "";
+    if (e->domain != XML_FROM_SCHEMASV && strstr(msg, "ntity")) {
+        /* an entity problem in a document that declares entities (an
+         * external one, a reference loop): one plain message */
+        if (sink->entity_line < 0)
+            sink->entity_line = entity_decl_line(sink->data, sink->len);
+        if (sink->entity_line > 0) {
+            L->failed = 1;
+            if (sink->entity_reported++)
+                return;
+            line = sink->entity_line;
+            snprintf(msg, sizeof msg, "%s", entity_msg);
+        }
+    }
     if (strstr(msg, "[facet 'pattern']")) {
         if (strstr(msg, "[+\\-]?"))
             hint = " (a number must be a finite decimal such as 0.01 or "
@@ -1090,6 +1172,15 @@ static void xml_error_cb(void *ud, xmlErrorPtr e)
         snprintf(msg, sizeof msg, "elements are nested more than %u deep, "
                  "the limit; use <block> and <ref> to share logic instead "
                  "of nesting it", L->lim.max_depth);
+    } else if (strstr(msg, "This element is not expected") && e->node &&
+               ((xmlNodePtr)e->node)->parent &&
+               is_logic_elem((xmlNodePtr)e->node) &&
+               (xmlStrEqual(((xmlNodePtr)e->node)->parent->name,
+                            (const xmlChar *)"hazard") ||
+                xmlStrEqual(((xmlNodePtr)e->node)->parent->name,
+                            (const xmlChar *)"block"))) {
+        hint = " (a hazard or block has exactly one logic child; combine "
+               "several with <all>, <any> or <vote>)";
     } else if (strstr(msg, "This element is not expected") ||
                strstr(msg, "is not allowed")) {
         hint = " (see docs/model-format.md for the elements and attributes "
@@ -1098,9 +1189,147 @@ static void xml_error_cb(void *ud, xmlErrorPtr e)
         hint = " (a hazard or block needs exactly one logic child, a gate "
                "at least one input)";
     }
+    L->failed = 1;
+    if (line == sink->last_line && !strncmp(msg, sink->last,
+                                            sizeof sink->last - 1))
+        return;     /* libxml2 repeats some errors once per use */
+    sink->last_line = line;
+    strncpy(sink->last, msg, sizeof sink->last - 1);
+    sink->last[sizeof sink->last - 1] = '\0';
     if (sink->count++ < 200)
         lw_error_set(L->err, code, L->file, line, "%s%s", msg, hint);
-    L->failed = 1;
+}
+
+/* Advance *pos (counting lines in *line) to just past the next occurrence
+ * of 'end'; returns 0 when it does not occur. */
+static int skip_past(const char *d, size_t len, size_t *pos, long *line,
+                     const char *end)
+{
+    size_t el = strlen(end);
+    for (size_t i = *pos; i + el <= len; i++) {
+        if (memcmp(d + i, end, el) == 0) {
+            *pos = i + el;
+            return 1;
+        }
+        if (d[i] == '\n')
+            (*line)++;
+    }
+    return 0;
+}
+
+/* Position of the next start tag's '<' at or after *pos, with its line;
+ * skips comments, CDATA, processing instructions, the DOCTYPE and end
+ * tags.  Returns 0 when there is none. */
+static int next_start_tag(const char *d, size_t len, size_t *pos, long *line)
+{
+    while (*pos < len) {
+        if (d[*pos] == '\n')
+            (*line)++;
+        if (d[*pos] != '<') {
+            (*pos)++;
+            continue;
+        }
+        const char *t = d + *pos;
+        size_t rest = len - *pos;
+        int ok = 1;
+        if (rest >= 4 && !memcmp(t, "<!--", 4)) {
+            ok = skip_past(d, len, pos, line, "-->");
+        } else if (rest >= 9 && !memcmp(t, "<![CDATA[", 9)) {
+            ok = skip_past(d, len, pos, line, "]]>");
+        } else if (rest >= 2 && t[1] == '?') {
+            ok = skip_past(d, len, pos, line, "?>");
+        } else if (rest >= 2 && t[1] == '!') {      /* <!DOCTYPE ... > */
+            int depth = 0;
+            char quote = 0;
+            size_t i = *pos + 2;
+            for (; i < len; i++) {
+                char ch = d[i];
+                if (!quote && ch == '<' && i + 4 <= len &&
+                    !memcmp(d + i, "<!--", 4)) {
+                    size_t at = i;      /* a comment in the subset */
+                    if (!skip_past(d, len, &at, line, "-->"))
+                        return 0;
+                    i = at - 1;
+                    continue;
+                }
+                if (ch == '\n')
+                    (*line)++;
+                if (quote) {
+                    if (ch == quote)
+                        quote = 0;
+                } else if (ch == '"' || ch == '\'') {
+                    quote = ch;
+                } else if (ch == '[') {
+                    depth++;
+                } else if (ch == ']') {
+                    depth--;
+                } else if (ch == '>' && depth <= 0) {
+                    break;
+                }
+            }
+            *pos = i + 1;
+            ok = i < len;
+        } else if (rest >= 2 && t[1] == '/') {
+            ok = skip_past(d, len, pos, line, ">");
+        } else {
+            return 1;
+        }
+        if (!ok)
+            return 0;
+    }
+    return 0;
+}
+
+/* libxml2 gives an element the line where its start tag ENDS, which for
+ * an element written over several lines is not where a reader looks.
+ * Start tags appear in the bytes in document order, so one scan pairs the
+ * k-th start tag with the k-th element (the document declares no entities
+ * by now) and keeps the line where the tag begins in _private.  At the
+ * first mismatch of name or order the scan stops and libxml2's lines stand
+ * for the rest. */
+static void mark_begin_lines(xmlNodePtr root, const char *d, size_t len)
+{
+    size_t pos = 0;
+    long line = 1;
+    xmlNodePtr n = root;
+    while (n) {
+        if (n->type == XML_ELEMENT_NODE) {
+            if (!next_start_tag(d, len, &pos, &line))
+                return;
+            size_t nl = strlen((const char *)n->name);
+            char after = pos + 1 + nl < len ? d[pos + 1 + nl] : '\0';
+            if (n->ns || pos + 1 + nl > len ||
+                memcmp(d + pos + 1, n->name, nl) != 0 ||
+                !(after == '>' || after == '/' || after == ' ' ||
+                  after == '\t' || after == '\n' || after == '\r') ||
+                line > (long)xmlGetLineNo(n))
+                return;
+            n->_private = (void *)(intptr_t)line;
+            pos++;
+            if (n->children) {
+                n = n->children;
+                continue;
+            }
+        }
+        while (n && !n->next && n != root)
+            n = n->parent;
+        if (!n || n == root)
+            return;
+        n = n->next;
+    }
+}
+
+/* Line of the first entity declaration, or 0. */
+static long entity_decl_line(const char *d, size_t len)
+{
+    long line = 1;
+    for (size_t i = 0; i + 8 <= len; i++) {
+        if (d[i] == '\n')
+            line++;
+        else if (d[i] == '<' && !memcmp(d + i, "<!ENTITY", 8))
+            return line;
+    }
+    return 0;
 }
 
 static int doc_declares_entities(xmlDocPtr doc)
@@ -1191,7 +1420,7 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
                             "id=\"...\">");
 
     xmlInitParser();
-    xml_sink sink = {&L, 0};
+    xml_sink sink = {&L, 0, data, len, -1, 0, -1, ""};
     xmlSetStructuredErrorFunc(&sink, xml_error_cb);
     xmlSetGenericErrorFunc(NULL, NULL);
     int opts = XML_PARSE_NONET | XML_PARSE_BIG_LINES | XML_PARSE_NOWARNING;
@@ -1208,15 +1437,14 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
         goto out;
     }
     if (doc_declares_entities(doc)) {
-        long line = doc->intSubset ? (long)xmlGetLineNo(
-                        (xmlNodePtr)doc->intSubset) : 1;
+        long line = entity_decl_line(data, len);
         st = lw_error_set(err, LW_EPARSE, L.file, line > 0 ? line : 1,
-                          "the DOCTYPE declares entities; layerwise never "
-                          "expands entities or loads DTDs, so remove the "
-                          "DOCTYPE and write the text out");
+                          "%s", entity_msg);
         goto out;
     }
     xmlNodePtr root = xmlDocGetRootElement(doc);
+    if (root)
+        mark_begin_lines(root, data, len);
     if (!root || !xmlStrEqual(root->name, (const xmlChar *)"safety-model")) {
         st = lw_error_set(err, LW_EMODEL, L.file,
                           root ? line_of(root) : 1, "the root element is "
@@ -1228,6 +1456,9 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
         if (!L.failed)
             lw_error_set(err, LW_EINTERNAL, L.file, 0,
                          "the built-in schema could not be used");
+        else if (!err || err->code == LW_OK)
+            lw_error_set(err, LW_EMODEL, L.file, 0, "the model does not "
+                         "follow the model schema (docs/model.xsd)");
         st = err && err->code ? err->code : LW_EMODEL;
         goto out;
     }
@@ -1244,7 +1475,7 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
     build_root(&L, root);
     if (!L.oom)
         resolve_refs(&L);
-    if (!L.oom && !L.failed)
+    if (!L.oom)
         find_cycles(&L);
     if (!L.oom)
         check_groups(&L);

@@ -448,8 +448,8 @@ static double part_p(const gen *g, int e)
             return 0.0;     /* the member is certain through the group */
         return fmax(0.0, (p - q) / (1.0 - q));
     }
-    if (d >= 0)
-        return p * (1.0 - weight[g->dlevel_final[d]]);
+    if (d >= 0)     /* model-format.md: an absent layer misses with certainty */
+        return p >= 1.0 ? 1.0 : p * (1.0 - weight[g->dlevel_final[d]]);
     return p;
 }
 
