@@ -171,6 +171,39 @@ void lw_analysis_write_json(lw_jw *w, const lw_model *m,
     lw_jw_end_object(w);
 }
 
+/* A chance as a percentage that never rounds a near-certainty to 100 %. */
+static void fmt_percent(char *buf, size_t n, double x)
+{
+    if (x >= 0.9995)
+        snprintf(buf, n, "over 99.9%%");
+    else if (x < 0.0005 && x > 0)
+        snprintf(buf, n, "under 0.1%%");
+    else
+        snprintf(buf, n, "%.1f%%", 100.0 * x);
+}
+
+/* A time in years, in days or months when it is short. */
+static void fmt_interval(char *buf, size_t n, double years)
+{
+    char v[32];
+    if (years < 1.0 / 12.0) {
+        lw_fmt_sig(v, sizeof v, years * 365.25);
+        snprintf(buf, n, "%s days", v);
+    } else if (years < 1.0) {
+        lw_fmt_sig(v, sizeof v, years * 12.0);
+        snprintf(buf, n, "%s months", v);
+    } else {
+        lw_fmt_sig(v, sizeof v, years);
+        snprintf(buf, n, "%s years", v);
+    }
+}
+
+static int cmp_u32(const void *a, const void *b)
+{
+    uint32_t x = *(const uint32_t *)a, y = *(const uint32_t *)b;
+    return (x > y) - (x < y);
+}
+
 static void print_rule(FILE *out)
 {
     fputs("  ----------------------------------------------------------------"
@@ -197,23 +230,26 @@ void lw_render_analysis_text(FILE *out, const lw_model *m,
 
     lw_fmt_prob(b1, sizeof b1, a->probability);
     lw_fmt_one_in(b2, sizeof b2, a->one_in);
-    fprintf(out, "  Chance per %s   %s", unit, b1);
+    char lbl[96];
+    snprintf(lbl, sizeof lbl, "Chance per %s", unit);
+    fprintf(out, "  %-31s %s", lbl, b1);
     if (a->probability > 0)
         fprintf(out, "   (about 1 in %s)", b2);
     fputc('\n', out);
     if (a->has_exposure) {
         lw_fmt_sig(b1, sizeof b1, a->per_year);
         lw_fmt_sig(b2, sizeof b2, m->per_year);
-        fprintf(out, "  Expected events per year      %s   (at %s a year)\n",
+        fprintf(out, "  %-31s %s   (at %s a year)\n", "Expected events per year",
                 b1, b2);
         if (a->per_year > 0) {
-            lw_fmt_sig(b1, sizeof b1, 1.0 / a->per_year);
-            fprintf(out, "  Mean time between events      %s years\n", b1);
-            lw_fmt_sig(b1, sizeof b1, 100.0 * -expm1(-a->per_year));
-            lw_fmt_sig(b2, sizeof b2, 100.0 * -expm1(-5 * a->per_year));
-            lw_fmt_sig(b3, sizeof b3, 100.0 * -expm1(-10 * a->per_year));
-            fprintf(out, "  Chance of at least one event  %s%% in a year, "
-                    "%s%% in 5 years, %s%% in 10\n", b1, b2, b3);
+            fmt_interval(b1, sizeof b1, 1.0 / a->per_year);
+            fprintf(out, "  %-31s %s\n", "Mean time between events", b1);
+            fmt_percent(b1, sizeof b1, -expm1(-a->per_year));
+            fmt_percent(b2, sizeof b2, -expm1(-5 * a->per_year));
+            fmt_percent(b3, sizeof b3, -expm1(-10 * a->per_year));
+            fprintf(out, "  %-31s %s in a year, "
+                    "%s in 5 years, %s in 10\n", "Chance of an event", b1, b2,
+                    b3);
         }
     } else {
         fputs("  (no <exposure> in the model: add one for per-year "
@@ -222,11 +258,12 @@ void lw_render_analysis_text(FILE *out, const lw_model *m,
     if (a->has_tolerable) {
         lw_fmt_prob(b1, sizeof b1, a->tolerable);
         if (a->meets_tolerable) {
-            fprintf(out, "  Tolerable level               %s   met\n", b1);
+            fprintf(out, "  %-31s %s   met\n", "Tolerable level", b1);
         } else {
             lw_fmt_sig(b2, sizeof b2, a->probability / a->tolerable);
-            fprintf(out, "  Tolerable level               %s   NOT met: the "
-                    "chance is %s times the tolerable level\n", b1, b2);
+            fprintf(out, "  %-31s %s   NOT met: the "
+                    "chance is %s times the tolerable level\n",
+                    "Tolerable level", b1, b2);
         }
     }
     fputc('\n', out);
@@ -261,12 +298,18 @@ void lw_render_analysis_text(FILE *out, const lw_model *m,
         const lw_cut_set *c = &a->cut_sets[i];
         lw_fmt_prob(b1, sizeof b1, c->probability);
         fprintf(out, "  %4zu  %-9s  %5.1f%%  ", i + 1, b1, 100.0 * c->share);
-        for (size_t k = 0; k < c->order; k++) {
+        /* in the model's order (errors, then the layers they pass) */
+        uint32_t order[64];
+        size_t no = c->order < 64 ? c->order : 64;
+        memcpy(order, c->vars, no * sizeof *order);
+        qsort(order, no, sizeof *order, cmp_u32);
+        for (size_t k = 0; k < no; k++) {
             char d[512];
-            describe_var(d, sizeof d, m, net, c->vars[k]);
-            fprintf(out, "%s%s\n", k ? "              " "            " : "",
-                    d);
+            describe_var(d, sizeof d, m, net, order[k]);
+            fprintf(out, "%*s%s\n", k ? 27 : 0, "", d);
         }
+        if (c->order > no)
+            fprintf(out, "%27s... and %zu more events\n", "", c->order - no);
         if (c->order == 0)
             fputs("(always: the hazard needs no miss)\n", out);
     }
