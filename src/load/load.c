@@ -27,6 +27,7 @@
 #include <libxml/xmlschemas.h>
 #include <errno.h>
 #include <math.h>
+#include <pthread.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -107,13 +108,37 @@ static const char *ename(xmlNodePtr n) { return (const char *)n->name; }
 
 /* Owned copy of an attribute, or NULL when absent (or out of memory; then
  * L->oom is set). */
+/* An attribute's value without copying it, when it is one text node (as
+ * the parser makes it: no entities are substituted); NULL when absent.
+ * '*tmp' receives a copy to xmlFree when the value had to be assembled. */
+static const char *attr_view(xmlNodePtr n, const char *name, xmlChar **tmp)
+{
+    *tmp = NULL;
+    for (xmlAttrPtr a = n->properties; a; a = a->next) {
+        if (a->ns || !xmlStrEqual(a->name, (const xmlChar *)name))
+            continue;
+        xmlNodePtr c = a->children;
+        if (!c)
+            return "";
+        if (c->type == XML_TEXT_NODE && !c->next && c->content)
+            return (const char *)c->content;
+        *tmp = xmlNodeListGetString(n->doc, c, 1);
+        return *tmp ? (const char *)*tmp : "";
+    }
+    return NULL;
+}
+
+/* Owned copy of an attribute, or NULL when absent (or out of memory; then
+ * L->oom is set). */
 static char *attr(loader *L, xmlNodePtr n, const char *name)
 {
-    xmlChar *v = xmlGetProp(n, (const xmlChar *)name);
+    xmlChar *tmp;
+    const char *v = attr_view(n, name, &tmp);
     if (!v)
         return NULL;
-    char *s = lw_strdup((const char *)v);
-    xmlFree(v);
+    char *s = lw_strdup(v);
+    if (tmp)
+        xmlFree(tmp);
     if (!s)
         nomem(L);
     return s;
@@ -128,7 +153,8 @@ static int has_attr(xmlNodePtr n, const char *name)
  * when present and invalid (an error was recorded). */
 static int num_attr(loader *L, xmlNodePtr n, const char *name, double *out)
 {
-    xmlChar *v = xmlGetProp(n, (const xmlChar *)name);
+    xmlChar *tmp;
+    const char *v = attr_view(n, name, &tmp);
     if (!v)
         return 0;
     int rc = lw_parse_number((const char *)v, out);
@@ -140,7 +166,8 @@ static int num_attr(loader *L, xmlNodePtr n, const char *name, double *out)
         fail(L, line_of(n), "<%s> %s=\"%s\" is not a finite decimal number; "
              "write it as e.g. 0.01 or 1e-3", ename(n), name,
              (const char *)v);
-    xmlFree(v);
+    if (tmp)
+        xmlFree(tmp);
     return rc == 0 ? 1 : -1;
 }
 
@@ -182,12 +209,37 @@ static long id_line(const lw_model *m, size_t tag)
     }
 }
 
+/* [A-Za-z][A-Za-z0-9_.-]*: checked here rather than by the schema's
+ * regular expressions, which were most of the cost of validating a large
+ * model (the compiled-in schema has its patterns removed). */
+static int valid_id(const char *s)
+{
+    if (!((*s >= 'A' && *s <= 'Z') || (*s >= 'a' && *s <= 'z')))
+        return 0;
+    for (s++; *s; s++)
+        if (!((*s >= 'A' && *s <= 'Z') || (*s >= 'a' && *s <= 'z') ||
+              (*s >= '0' && *s <= '9') || *s == '_' || *s == '.' ||
+              *s == '-'))
+            return 0;
+    return 1;
+}
+
+static void bad_id(loader *L, long line, const char *elem, const char *id)
+{
+    fail(L, line, "<%s> id=\"%s\" is not a valid id: start with a letter, "
+         "then use letters, digits, '_', '.' or '-'", elem, id);
+}
+
 /* Register 'id' (borrowed from the model) for a thing of 'kind'. */
 static void register_id(loader *L, const char *id, int kind, size_t index,
                         long line, const char *elem)
 {
     if (!id)
         return;
+    if (!valid_id(id)) {
+        bad_id(L, line, elem, id);
+        return;
+    }
     size_t old = 0;
     int rc = lw_strmap_put(&L->ids, id, ID_TAG(kind, index), &old);
     if (rc < 0) {
@@ -658,6 +710,8 @@ static void build_root(loader *L, xmlNodePtr root)
 {
     lw_model *m = L->m;
     m->id = attr(L, root, "id");
+    if (m->id && !valid_id(m->id))
+        bad_id(L, line_of(root), "safety-model", m->id);
     for (xmlNodePtr c = root->children; c && !L->oom; c = c->next) {
         if (c->type != XML_ELEMENT_NODE)
             continue;
@@ -1396,6 +1450,52 @@ static void set_limits(lw_load_limits *out, const lw_load_limits *in)
         out->max_depth = 256;
 }
 
+/* Schema validation, run beside the model builder. */
+typedef struct validation {
+    loader L;           /* copy of the builder's loader, errors to 'err' */
+    xml_sink sink;
+    xmlDocPtr doc;
+    lw_error err;
+    int rc;             /* lw_schema_validate's result */
+    pthread_t thread;
+} validation;
+
+static void *validate_main(void *arg)
+{
+    validation *v = arg;
+    /* libxml2's error handler is per thread */
+    xmlSetStructuredErrorFunc(&v->sink, xml_error_cb);
+    xmlSetGenericErrorFunc(NULL, NULL);
+    v->rc = lw_schema_validate(v->doc);
+    xmlSetStructuredErrorFunc(NULL, NULL);
+    return NULL;
+}
+
+/* Move every diagnostic of 'from' into 'to' and order them by line (the
+ * order of each source kept for equal lines). */
+static void merge_errors(lw_error *to, lw_error *from)
+{
+    if (!to || !from->count)
+        return;
+    for (size_t i = 0; i < from->count; i++) {
+        lw_diag *d = &from->items[i];
+        lw_error_set(to, to->code ? to->code : LW_EMODEL, d->file, d->line,
+                     "%s", d->message);
+    }
+    if (from->code != LW_OK && (to->code == LW_OK || to->code == LW_ENOMEM))
+        to->code = from->code;
+    /* insertion sort: stable, and lists are short */
+    for (size_t i = 1; i < to->count; i++) {
+        lw_diag x = to->items[i];
+        size_t j = i;
+        while (j > 0 && to->items[j - 1].line > x.line) {
+            to->items[j] = to->items[j - 1];
+            j--;
+        }
+        to->items[j] = x;
+    }
+}
+
 lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
                                const lw_load_limits *limits, lw_model **out,
                                lw_error *err)
@@ -1452,38 +1552,65 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
                           " id=\"...\">", root ? ename(root) : "(none)");
         goto out;
     }
-    if (lw_schema_validate(doc) != 0 || L.failed) {
-        if (!L.failed)
-            lw_error_set(err, LW_EINTERNAL, L.file, 0,
-                         "the built-in schema could not be used");
-        else if (!err || err->code == LW_OK)
-            lw_error_set(err, LW_EMODEL, L.file, 0, "the model does not "
-                         "follow the model schema (docs/model.xsd)");
+    if (L.failed) {
         st = err && err->code ? err->code : LW_EMODEL;
         goto out;
     }
 
+    /* The schema is checked on a second thread while this one builds the
+     * model: both only read the document.  Structural problems and the
+     * builder's own findings are then reported together, in line order. */
+    validation V;
+    memset(&V, 0, sizeof V);
+    V.L = L;                    /* a copy: file, limits; its own errors */
+    V.L.err = &V.err;
+    V.L.failed = 0;
+    V.sink = sink;
+    V.sink.L = &V.L;
+    V.doc = doc;
+    lw_error_init(&V.err);
+    int threaded = len >= (1u << 16) &&
+                   pthread_create(&V.thread, NULL, validate_main, &V) == 0;
+    if (!threaded)
+        validate_main(&V);
+
     m = lw_calloc(1, sizeof *m);
+    if (m) {
+        L.m = m;
+        m->file = lw_strdup(L.file);
+        if (!m->file)
+            nomem(&L);
+        build_root(&L, root);
+        if (!L.oom)
+            resolve_refs(&L);
+        if (!L.oom)
+            find_cycles(&L);
+        if (!L.oom)
+            check_groups(&L);
+        if (!L.oom)
+            check_variants(&L);
+        if (!L.oom && m->nhazards == 0)
+            fail(&L, line_of(root), "the model has no <hazard>; add at "
+                 "least one hazard (the top event) with one logic child");
+    }
+    if (threaded)
+        pthread_join(V.thread, NULL);
     if (!m) {
+        lw_error_clear(&V.err);
         st = lw_error_oom(err);
         goto out;
     }
-    L.m = m;
-    m->file = lw_strdup(L.file);
-    if (!m->file)
-        nomem(&L);
-    build_root(&L, root);
-    if (!L.oom)
-        resolve_refs(&L);
-    if (!L.oom)
-        find_cycles(&L);
-    if (!L.oom)
-        check_groups(&L);
-    if (!L.oom)
-        check_variants(&L);
-    if (!L.oom && m->nhazards == 0)
-        fail(&L, line_of(root), "the model has no <hazard>; add at least "
-             "one hazard (the top event) with one logic child");
+    if (V.rc != 0 || V.L.failed) {
+        if (V.rc < 0 && !V.L.failed)
+            lw_error_set(err, LW_EINTERNAL, L.file, 0,
+                         "the built-in schema could not be used");
+        else if (V.err.count == 0)
+            lw_error_set(err, LW_EMODEL, L.file, 0, "the model does not "
+                         "follow the model schema (docs/model.xsd)");
+        merge_errors(err, &V.err);
+        L.failed = 1;
+    }
+    lw_error_clear(&V.err);
     if (!L.oom && !L.failed)
         check_unused(&L);
     if (L.failed)
