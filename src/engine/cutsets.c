@@ -109,7 +109,7 @@ lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
     memset(&c, 0, sizeof c);
     c.d = d;
     c.ncache = 1u << 16;
-    while (c.ncache < (size_t)d->n && c.ncache < (1u << 20))
+    while (c.ncache < (size_t)d->n && c.ncache < (1u << 16))
         c.ncache <<= 1;
     c.memo = lw_malloc(d->n * sizeof *c.memo);
     c.cache = lw_calloc(c.ncache, sizeof *c.cache);
