@@ -102,9 +102,11 @@ int main(int argc, char **argv)
         t0 = now();
         double P = lw_diagram_birnbaum_into(d, p->q, b, r);
         lw_cut_family_fussell_vesely(f, fv, &err);
+        double invP = 1.0 / P;      /* as analyze.c does */
         for (uint32_t l = 0; l < p->hazard_levels; l++) {
             double q = p->q[l], pt = P + (1 - q) * b[l], pf = P - q * b[l];
-            sink += b[l] * q / P + pt / P + (pf > 0 ? P / pf : 0) + fv[l];
+            sink += b[l] * q * invP + pt * invP + (pf > 0 ? P / pf : 0) +
+                    fv[l];
         }
         t[i] = now() - t0;
     }

@@ -139,6 +139,7 @@ static lw_status importance(const lw_prepared *p, lw_analysis *a,
         lw_free(b);
         return LW_ENOMEM;
     }
+    double invP = P > 0 ? 1.0 / P : 0.0;    /* one division, not three */
     for (uint32_t l = 0; l < nl; l++) {
         lw_importance *r = &a->importance[l];
         double q = p->q[l], B = b[l];
@@ -153,8 +154,8 @@ static lw_status importance(const lw_prepared *p, lw_analysis *a,
             r->p_false = 0;
         if (r->p_true > 1)
             r->p_true = 1;
-        r->criticality = P > 0 ? B * q / P : 0;
-        r->raw = P > 0 ? r->p_true / P : 0;
+        r->criticality = B * q * invP;
+        r->raw = r->p_true * invP;
         r->rrw_defined = r->p_false > 0;
         r->rrw = r->rrw_defined ? P / r->p_false : 0;
         r->fussell_vesely = fv[l];

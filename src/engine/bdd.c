@@ -525,20 +525,25 @@ double lw_diagram_prob(const lw_diagram *d, const double *q, double *w)
 double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
                                 double *birnbaum, double *wr)
 {
+    /* Bottom-up: node probabilities into A, and each node's difference
+     * P(hi) - P(lo) into B while both are at hand.  Top-down: A is reused
+     * for the probability of reaching each node, and B is read in order,
+     * so this pass makes no random reads. */
     const uint32_t *lv = d->level, *hi = d->hi, *lo = d->lo;
-    double *w = wr, *r = wr + d->n;
-    w[0] = 0.0;
-    w[1] = 1.0;
-    r[0] = r[1] = 0.0;
+    double *A = wr, *B = wr + d->n;
+    A[0] = 0.0;
+    A[1] = 1.0;
     for (uint32_t i = 2; i < d->n; i++) {
-        double p = q[lv[i]];
-        w[i] = p * w[hi[i]] + (1.0 - p) * w[lo[i]];
-        r[i] = 0.0;
+        double p = q[lv[i]], h = A[hi[i]], o = A[lo[i]];
+        A[i] = o + p * (h - o);
+        B[i] = h - o;
     }
+    double P = A[d->root];
     memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
-    r[d->root] = 1.0;
+    memset(A, 0, d->n * sizeof *A);
+    A[d->root] = 1.0;
     /* nodes of one level are contiguous: sum a level's share in a
-     * register and store it once, instead of a store per node */
+     * register and store it once */
     uint32_t cur = d->n > 2 ? lv[d->n - 1] : 0;
     double acc = 0.0;
     for (uint32_t i = d->n; i-- > 2;) {
@@ -548,15 +553,14 @@ double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
             acc = 0.0;
             cur = l;
         }
-        double p = q[l], ri = r[i], a = ri * p;
-        uint32_t h = hi[i], o = lo[i];
-        r[h] += a;
-        r[o] += ri - a;
-        acc += ri * (w[h] - w[o]);
+        double ri = A[i], a = ri * q[l];
+        A[hi[i]] += a;
+        A[lo[i]] += ri - a;
+        acc += ri * B[i];
     }
     if (d->n > 2)
         birnbaum[cur] += acc;
-    return w[d->root];
+    return P;
 }
 
 double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
