@@ -66,6 +66,9 @@ lw_bref lw_bdd_or(lw_bdd *b, lw_bref f, lw_bref g);
 lw_bref lw_bdd_not(lw_bdd *b, lw_bref f);
 /* At least k of the n functions are true. */
 lw_bref lw_bdd_atleast(lw_bdd *b, uint32_t k, const lw_bref *in, size_t n);
+/* ZBDD (a manager made with lw_zdd_new): the sets of P that hold no set
+ * of Q. */
+lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q);
 /* Number of nodes reachable from f, terminals included. */
 size_t lw_bdd_size(const lw_bdd *b, lw_bref f);
 

@@ -247,75 +247,15 @@ static lw_status posterior(lw_prepared *p, double *post, lw_bref obs,
 
 /* ---- the near-set families ------------------------------------------- */
 
-typedef struct wentry {
-    uint32_t p, q, r, used;
-} wentry;
-
-typedef struct near_ctx {
-    lw_bdd *z;
-    wentry *cache;
-    size_t ncache;
-} near_ctx;
-
-static inline uint32_t hash2(uint32_t a, uint32_t b)
-{
-    uint64_t h = (uint64_t)a * 0x9E3779B97F4A7C15ull ^
-                 (uint64_t)b * 0xC2B2AE3D27D4EB4Full;
-    h ^= h >> 32;
-    return (uint32_t)h;
-}
-
-/* The sets of P that hold no set of Q. */
-static uint32_t without(near_ctx *c, uint32_t P, uint32_t Q)
-{
-    if (P == LW_BREF_INVALID || Q == LW_BREF_INVALID)
-        return LW_BREF_INVALID;
-    if (P == 0) return 0;
-    if (Q == 0) return P;
-    if (Q == 1) return 0;
-    if (P == 1) return 1;
-    if (P == Q) return 0;
-    wentry *e = &c->cache[hash2(P, Q) & (c->ncache - 1)];
-    if (e->used && e->p == P && e->q == Q)
-        return e->r;
-    lw_bdd *z = c->z;
-    uint32_t x = lw_bdd_level(z, P), y = lw_bdd_level(z, Q);
-    uint32_t r;
-    if (x < y) {
-        uint32_t h = without(c, lw_bdd_hi(z, P), Q);
-        uint32_t l = without(c, lw_bdd_lo(z, P), Q);
-        r = lw_bdd_mk(z, x, h, l);
-    } else if (x > y) {
-        r = without(c, P, lw_bdd_lo(z, Q));
-    } else {
-        uint32_t h1 = without(c, lw_bdd_hi(z, P), lw_bdd_hi(z, Q));
-        uint32_t h = without(c, h1, lw_bdd_lo(z, Q));
-        uint32_t l = without(c, lw_bdd_lo(z, P), lw_bdd_lo(z, Q));
-        r = lw_bdd_mk(z, x, h, l);
-    }
-    if (r != LW_BREF_INVALID) {
-        e = &c->cache[hash2(P, Q) & (c->ncache - 1)];
-        e->p = P;
-        e->q = Q;
-        e->r = r;
-        e->used = 1;
-    }
-    return r;
-}
-
 /* Build N0 and N1 of the hazard's diagram in the ZDD manager 'z'. */
 static lw_status near_families(const lw_diagram *d, const unsigned char *cheap,
                                lw_bdd *z, uint32_t *root0, uint32_t *root1,
                                lw_error *err)
 {
-    near_ctx c = {z, NULL, 1u << 12};
-    while (c.ncache < (size_t)d->n * 2 && c.ncache < (1u << 22))
-        c.ncache <<= 1;
-    c.cache = lw_calloc(c.ncache, sizeof *c.cache);
     uint32_t *n0 = lw_malloc(d->n * sizeof *n0);
     uint32_t *n1 = lw_malloc(d->n * sizeof *n1);
     lw_status st = LW_OK;
-    if (!c.cache || !n0 || !n1) {
+    if (!n0 || !n1) {
         st = lw_error_oom(err);
         goto done;
     }
@@ -324,11 +264,11 @@ static lw_status near_families(const lw_diagram *d, const unsigned char *cheap,
     for (uint32_t i = 2; i < d->n; i++) {
         uint32_t x = d->level[i], h = d->hi[i], l = d->lo[i];
         if (cheap[x]) {
-            n0[i] = lw_bdd_mk(z, x, without(&c, n0[h], n0[l]), n0[l]);
-            n1[i] = lw_bdd_mk(z, x, without(&c, n1[h], n1[l]), n1[l]);
+            n0[i] = lw_bdd_mk(z, x, lw_zdd_without(z, n0[h], n0[l]), n0[l]);
+            n1[i] = lw_bdd_mk(z, x, lw_zdd_without(z, n1[h], n1[l]), n1[l]);
         } else {
             n0[i] = n0[l];
-            n1[i] = lw_bdd_mk(z, x, without(&c, n0[h], n0[l]), n1[l]);
+            n1[i] = lw_bdd_mk(z, x, lw_zdd_without(z, n0[h], n0[l]), n1[l]);
         }
         if (n0[i] == LW_BREF_INVALID || n1[i] == LW_BREF_INVALID) {
             if (lw_bdd_status(z) == LW_ELIMIT)
@@ -344,7 +284,6 @@ static lw_status near_families(const lw_diagram *d, const unsigned char *cheap,
     *root0 = n0[d->root];
     *root1 = n1[d->root];
 done:
-    lw_free(c.cache);
     lw_free(n0);
     lw_free(n1);
     return st;

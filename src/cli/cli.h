@@ -14,6 +14,8 @@
 #include <stddef.h>
 #include <stdio.h>
 
+#include <jansson.h>
+
 #include "layerwise/analysis.h"
 #include "layerwise/error.h"
 #include "layerwise/fileio.h"
@@ -92,6 +94,35 @@ typedef struct cli_sink {
 int cli_sink_open(cli_sink *s, const char *path);
 void cli_note_input(int slot, const char *path);
 int cli_sink_close(cli_sink *s, int ok);
+
+/* A question asked of each selected hazard (--hazard, or all). */
+struct lw_jw;
+typedef struct cli_hazard_ops {
+    /* Answer for one hazard (an index into model->hazards). */
+    lw_status (*run)(void *ctx, size_t hazard, void **result, lw_error *err);
+    /* JSON: one of the two (stream_json for results with a row per
+     * event). */
+    json_t *(*json)(const lw_model *m, const void *result);
+    void (*stream_json)(struct lw_jw *w, const lw_model *m,
+                        const void *result);
+    void (*text)(void *ctx, FILE *out, const lw_model *m,
+                 const void *result);
+    void (*csv)(void *ctx, FILE *out, const lw_model *m, const void *result,
+                bool header);                   /* may be NULL */
+    void (*free)(void *result);
+    const char *separator;      /* between hazards in text, default "\n" */
+    bool no_caution;            /* the text renderer prints it itself */
+} cli_hazard_ops;
+
+/* Resolve --hazard, open the output (-o or stdout), answer each hazard,
+ * write text, JSON (one object, or {"hazards": [...], "caution"}) or
+ * CSV, and close the output.  Returns the exit code. */
+int cli_each_hazard(const cli_args *a, const lw_model *m,
+                    const cli_hazard_ops *ops, void *ctx);
+
+/* --samples, --seed, --threads into Monte Carlo options (exit code). */
+struct lw_mc_options;
+int cli_mc_options(const cli_args *a, struct lw_mc_options *mc);
 
 int cmd_check(int argc, char **argv);
 int cmd_analyze(int argc, char **argv);

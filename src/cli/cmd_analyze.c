@@ -2,7 +2,6 @@
 #include <string.h>
 
 #include "cli/cli.h"
-#include "layerwise/alloc.h"
 #include "layerwise/jsonw.h"
 #include "layerwise/render.h"
 
@@ -29,6 +28,41 @@ static const char help[] =
     "\n"
     "exit status: 0 done, 1 invalid model or analysis stopped, 2 usage\n";
 
+typedef struct analyze_ctx {
+    const lw_model *m;
+    size_t variant;
+    const cli_args *a;
+} analyze_ctx;
+
+static lw_status run(void *ctx, size_t hazard, void **res, lw_error *err)
+{
+    analyze_ctx *c = ctx;
+    return lw_analyze(c->m, c->variant, hazard, &c->a->opt,
+                      (lw_analysis **)res, err);
+}
+
+static void text(void *ctx, FILE *out, const lw_model *m, const void *res)
+{
+    lw_render_analysis_text(out, m, res, ((analyze_ctx *)ctx)->a->opt.top);
+}
+
+static void csv(void *ctx, FILE *out, const lw_model *m, const void *res,
+                bool header)
+{
+    const char *table = ((analyze_ctx *)ctx)->a->table;
+    if (table && !strcmp(table, "importance"))
+        lw_render_importance_csv(out, m, res, header);
+    else
+        lw_render_cut_sets_csv(out, m, res, header);
+}
+
+static void stream_json(lw_jw *w, const lw_model *m, const void *res)
+{
+    lw_analysis_write_json(w, m, res);
+}
+
+static void free_result(void *res) { lw_analysis_free(res); }
+
 int cmd_analyze(int argc, char **argv)
 {
     cli_args a;
@@ -47,77 +81,14 @@ int cmd_analyze(int argc, char **argv)
     rc = cli_load(&a, &m);
     if (rc)
         return rc;
-    size_t variant = LW_NONE;
-    size_t *hz = lw_malloc((m->nhazards + 1) * sizeof *hz);
-    size_t nh = 0;
-    if (!hz) {
-        lw_model_free(m);
-        fprintf(stderr, "layerwise: out of memory\n");
-        return EXIT_INVALID;
+    analyze_ctx c = {m, LW_NONE, &a};
+    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &c.variant);
+    if (!rc) {
+        static const cli_hazard_ops ops = {
+            .run = run, .stream_json = stream_json, .text = text,
+            .csv = csv, .free = free_result};
+        rc = cli_each_hazard(&a, m, &ops, &c);
     }
-    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &variant);
-    if (!rc)
-        rc = cli_hazards(&a, m, hz, &nh);
-    cli_sink sink;
-    if (!rc)
-        rc = cli_sink_open(&sink, a.output);
-    if (rc) {
-        lw_free(hz);
-        lw_model_free(m);
-        return rc;
-    }
-    lw_jw jw;
-    lw_jw_init(&jw, sink.fp);
-    if (a.format == FMT_JSON && nh > 1) {
-        lw_jw_begin_object(&jw);
-        lw_jw_key(&jw, "hazards");
-        lw_jw_begin_array(&jw);
-    }
-    int ok = 1;
-    for (size_t i = 0; i < nh && ok; i++) {
-        lw_error err = LW_ERROR_INIT;
-        lw_analysis *res = NULL;
-        lw_status st = lw_analyze(m, variant, hz[i], &a.opt, &res, &err);
-        if (st != LW_OK) {
-            fprintf(stderr, "layerwise: %s: hazard \"%s\":\n", m->file,
-                    m->nodes[m->hazards[hz[i]]].id);
-            cli_print_errors(&err);
-            lw_error_clear(&err);
-            rc = cli_exit_code(st);
-            ok = 0;
-            break;
-        }
-        if (a.format == FMT_JSON) {
-            lw_analysis_write_json(&jw, m, res);
-        } else if (a.format == FMT_CSV) {
-            if (a.table && !strcmp(a.table, "importance"))
-                lw_render_importance_csv(sink.fp, m, res, i == 0);
-            else
-                lw_render_cut_sets_csv(sink.fp, m, res, i == 0);
-        } else {
-            if (i)
-                fputs("\n", sink.fp);
-            lw_render_analysis_text(sink.fp, m, res, a.opt.top);
-        }
-        lw_analysis_free(res);
-    }
-    if (ok && a.format == FMT_JSON && nh > 1) {
-        lw_jw_end_array(&jw);
-        lw_jw_key(&jw, "caution");
-        lw_jw_string(&jw, lw_caution());
-        lw_jw_end_object(&jw);
-    } else if (ok && a.format == FMT_TEXT) {
-        lw_text_caution(sink.fp);
-    }
-    if (ok && ferror(sink.fp)) {
-        fprintf(stderr, "layerwise: writing the output failed\n");
-        ok = 0;
-        rc = EXIT_INVALID;
-    }
-    int crc = cli_sink_close(&sink, ok);
-    if (!rc)
-        rc = crc;
-    lw_free(hz);
     lw_model_free(m);
     return rc;
 }

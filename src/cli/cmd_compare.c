@@ -2,7 +2,6 @@
 #include <string.h>
 
 #include "cli/cli.h"
-#include "layerwise/alloc.h"
 #include "layerwise/render.h"
 #include "layerwise/render_mc.h"
 #include "layerwise/uncertainty.h"
@@ -33,6 +32,41 @@ static const char help[] =
     "\n"
     "exit status: 0 done, 1 invalid model or analysis stopped, 2 usage\n";
 
+typedef struct compare_ctx {
+    const lw_model *m;
+    const cli_args *a;
+    const lw_mc_options *mc;
+    const size_t *variants;
+    size_t nvariants;
+} compare_ctx;
+
+static lw_status run(void *ctx, size_t hazard, void **res, lw_error *err)
+{
+    compare_ctx *c = ctx;
+    return lw_compare_run(c->m, hazard, c->variants, c->nvariants,
+                          &c->a->opt, c->mc, (lw_comparison **)res, err);
+}
+
+static json_t *json(const lw_model *m, const void *res)
+{
+    return lw_comparison_json(m, res);
+}
+
+static void text(void *ctx, FILE *out, const lw_model *m, const void *res)
+{
+    (void)ctx;
+    lw_render_comparison_text(out, m, res);
+}
+
+static void csv(void *ctx, FILE *out, const lw_model *m, const void *res,
+                bool header)
+{
+    (void)ctx;
+    lw_render_comparison_csv(out, m, res, header);
+}
+
+static void free_result(void *res) { lw_comparison_free(res); }
+
 int cmd_compare(int argc, char **argv)
 {
     cli_args a;
@@ -46,84 +80,23 @@ int cmd_compare(int argc, char **argv)
         return EXIT_USAGE;
     }
     lw_mc_options mc;
-    lw_mc_options_init(&mc);
-    if (a.samples_set)
-        mc.samples = a.samples;
-    if (mc.samples < 2) {
-        fprintf(stderr, "layerwise: --samples needs at least 2\n");
-        return EXIT_USAGE;
-    }
-    mc.seed = (uint64_t)a.seed;
-    mc.threads = a.threads;
+    rc = cli_mc_options(&a, &mc);
+    if (rc)
+        return rc;
     lw_model *m = NULL;
     rc = cli_load(&a, &m);
     if (rc)
         return rc;
-    size_t variants[CLI_MAX_VARIANTS], nh = 0;
-    size_t *hz = lw_malloc((m->nhazards + 1) * sizeof *hz);
-    if (!hz) {
-        lw_model_free(m);
-        fprintf(stderr, "layerwise: out of memory\n");
-        return EXIT_INVALID;
-    }
+    size_t variants[CLI_MAX_VARIANTS];
     for (size_t i = 0; i < a.nvariants && !rc; i++)
         rc = cli_variant(m, a.variants[i], &variants[i]);
-    if (!rc)
-        rc = cli_hazards(&a, m, hz, &nh);
-    cli_sink sink;
-    if (!rc)
-        rc = cli_sink_open(&sink, a.output);
-    if (rc) {
-        lw_free(hz);
-        lw_model_free(m);
-        return rc;
+    if (!rc) {
+        compare_ctx c = {m, &a, &mc, variants, a.nvariants};
+        static const cli_hazard_ops ops = {
+            .run = run, .json = json, .text = text, .csv = csv,
+            .free = free_result};
+        rc = cli_each_hazard(&a, m, &ops, &c);
     }
-    json_t *arr = a.format == FMT_JSON ? json_array() : NULL;
-    int ok = 1;
-    for (size_t i = 0; i < nh && ok; i++) {
-        lw_error err = LW_ERROR_INIT;
-        lw_comparison *c = NULL;
-        lw_status st = lw_compare_run(m, hz[i], variants, a.nvariants,
-                                      &a.opt, &mc, &c, &err);
-        if (st != LW_OK) {
-            fprintf(stderr, "layerwise: %s: hazard \"%s\":\n", m->file,
-                    m->nodes[m->hazards[hz[i]]].id);
-            cli_print_errors(&err);
-            lw_error_clear(&err);
-            rc = cli_exit_code(st);
-            ok = 0;
-            break;
-        }
-        if (a.format == FMT_JSON) {
-            json_array_append_new(arr, lw_comparison_json(m, c));
-        } else if (a.format == FMT_CSV) {
-            lw_render_comparison_csv(sink.fp, m, c, i == 0);
-        } else {
-            if (i)
-                fputs("\n", sink.fp);
-            lw_render_comparison_text(sink.fp, m, c);
-        }
-        lw_comparison_free(c);
-    }
-    if (ok && a.format == FMT_JSON) {
-        json_t *doc;
-        if (nh == 1) {
-            doc = json_incref(json_array_get(arr, 0));
-        } else {
-            doc = json_object();
-            json_object_set(doc, "hazards", arr);
-            json_object_set_new(doc, "caution", json_string(lw_caution()));
-        }
-        if (lw_json_write(sink.fp, doc))
-            ok = 0, rc = EXIT_INVALID;
-    } else if (ok && a.format == FMT_TEXT) {
-        lw_text_caution(sink.fp);
-    }
-    json_decref(arr);
-    int crc = cli_sink_close(&sink, ok);
-    if (!rc)
-        rc = crc;
-    lw_free(hz);
     lw_model_free(m);
     return rc;
 }

@@ -54,6 +54,37 @@ static size_t split_ids(char *buf, const char **ids, size_t max)
     return n;
 }
 
+typedef struct incident_ctx {
+    const lw_model *m;
+    size_t variant;
+    const cli_args *a;
+    const char **failed;
+    size_t nfailed;
+    const char **held;
+    size_t nheld;
+} incident_ctx;
+
+static lw_status run(void *ctx, size_t hazard, void **res, lw_error *err)
+{
+    incident_ctx *c = ctx;
+    return lw_incident_run(c->m, c->variant, hazard, c->failed, c->nfailed,
+                           c->held, c->nheld, &c->a->opt,
+                           (lw_incident **)res, err);
+}
+
+static json_t *json(const lw_model *m, const void *res)
+{
+    return lw_incident_json(m, res);
+}
+
+static void text(void *ctx, FILE *out, const lw_model *m, const void *res)
+{
+    (void)ctx;
+    lw_render_incident_text(out, m, res, 20);
+}
+
+static void free_result(void *res) { lw_incident_free(res); }
+
 int cmd_incident(int argc, char **argv)
 {
     cli_args a;
@@ -77,7 +108,7 @@ int cmd_incident(int argc, char **argv)
     const char **fids = lw_malloc(maxn * sizeof *fids);
     const char **hids = lw_malloc(maxn * sizeof *hids);
     lw_model *m = NULL;
-    size_t *hz = NULL, *fn = NULL, *hn = NULL;
+    size_t *fn = NULL, *hn = NULL;
     if (!fbuf || !hbuf || !fids || !hids) {
         fprintf(stderr, "layerwise: out of memory\n");
         rc = EXIT_INVALID;
@@ -96,8 +127,7 @@ int cmd_incident(int argc, char **argv)
     /* check the ids once, before any hazard is analysed */
     fn = lw_malloc((nf + 1) * sizeof *fn);
     hn = lw_malloc((nh + 1) * sizeof *hn);
-    hz = lw_malloc((m->nhazards + 1) * sizeof *hz);
-    if (!fn || !hn || !hz) {
+    if (!fn || !hn) {
         fprintf(stderr, "layerwise: out of memory\n");
         rc = EXIT_INVALID;
         goto out;
@@ -121,57 +151,14 @@ int cmd_incident(int argc, char **argv)
         goto out;
     }
     lw_error_clear(&err);
-    size_t variant = LW_NONE, nhz = 0;
-    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &variant);
-    if (!rc)
-        rc = cli_hazards(&a, m, hz, &nhz);
-    cli_sink sink;
-    if (!rc)
-        rc = cli_sink_open(&sink, a.output);
-    if (rc)
-        goto out;
-    json_t *arr = a.format == FMT_JSON ? json_array() : NULL;
-    int ok = 1;
-    for (size_t i = 0; i < nhz && ok; i++) {
-        lw_incident *res = NULL;
-        lw_error e = LW_ERROR_INIT;
-        lw_status st = lw_incident_run(m, variant, hz[i], fids, nf, hids, nh,
-                                       &a.opt, &res, &e);
-        if (st != LW_OK) {
-            fprintf(stderr, "layerwise: %s: hazard \"%s\":\n", m->file,
-                    m->nodes[m->hazards[hz[i]]].id);
-            cli_print_errors(&e);
-            lw_error_clear(&e);
-            rc = cli_exit_code(st);
-            ok = 0;
-            break;
-        }
-        lw_error_clear(&e);
-        if (a.format == FMT_JSON) {
-            json_array_append_new(arr, lw_incident_json(m, res));
-        } else {
-            if (i)
-                fputs("\n\n", sink.fp);
-            lw_render_incident_text(sink.fp, m, res, 20);
-        }
-        lw_incident_free(res);
+    incident_ctx c = {m, LW_NONE, &a, fids, nf, hids, nh};
+    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &c.variant);
+    if (!rc) {
+        static const cli_hazard_ops ops = {
+            .run = run, .json = json, .text = text, .free = free_result,
+            .separator = "\n\n", .no_caution = true};
+        rc = cli_each_hazard(&a, m, &ops, &c);
     }
-    if (ok && a.format == FMT_JSON) {
-        json_t *doc;
-        if (nhz == 1) {
-            doc = json_incref(json_array_get(arr, 0));
-        } else {
-            doc = json_object();
-            json_object_set(doc, "hazards", arr);
-            json_object_set_new(doc, "caution", json_string(lw_caution()));
-        }
-        if (lw_json_write(sink.fp, doc))
-            ok = 0, rc = EXIT_INVALID;
-    }
-    json_decref(arr);
-    int crc = cli_sink_close(&sink, ok);
-    if (!rc)
-        rc = crc;
 out:
     lw_free(fbuf);
     lw_free(hbuf);
@@ -179,7 +166,6 @@ out:
     lw_free(hids);
     lw_free(fn);
     lw_free(hn);
-    lw_free(hz);
     lw_model_free(m);
     return rc;
 }

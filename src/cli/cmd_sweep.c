@@ -2,7 +2,6 @@
 #include <string.h>
 
 #include "cli/cli.h"
-#include "layerwise/alloc.h"
 #include "layerwise/render.h"
 #include "layerwise/render_mc.h"
 #include "layerwise/uncertainty.h"
@@ -28,6 +27,41 @@ static const char help[] =
     "  -o FILE              write to FILE (atomically) instead of stdout\n"
     "\n"
     "exit status: 0 done, 1 invalid model or analysis stopped, 2 usage\n";
+
+typedef struct sweep_ctx {
+    const lw_model *m;
+    size_t variant;
+    const cli_args *a;
+} sweep_ctx;
+
+static lw_status run(void *ctx, size_t hazard, void **res, lw_error *err)
+{
+    sweep_ctx *c = ctx;
+    const cli_args *a = c->a;
+    return lw_sweep_run(c->m, c->variant, hazard, a->event, a->from, a->to,
+                        a->steps, a->log_scale, &a->opt, (lw_sweep **)res,
+                        err);
+}
+
+static json_t *json(const lw_model *m, const void *res)
+{
+    return lw_sweep_json(m, res);
+}
+
+static void text(void *ctx, FILE *out, const lw_model *m, const void *res)
+{
+    (void)ctx;
+    lw_render_sweep_text(out, m, res);
+}
+
+static void csv(void *ctx, FILE *out, const lw_model *m, const void *res,
+                bool header)
+{
+    (void)ctx;
+    lw_render_sweep_csv(out, m, res, header);
+}
+
+static void free_result(void *res) { lw_sweep_free(res); }
 
 int cmd_sweep(int argc, char **argv)
 {
@@ -58,70 +92,14 @@ int cmd_sweep(int argc, char **argv)
     rc = cli_load(&a, &m);
     if (rc)
         return rc;
-    size_t variant = LW_NONE, nh = 0;
-    size_t *hz = lw_malloc((m->nhazards + 1) * sizeof *hz);
-    if (!hz) {
-        lw_model_free(m);
-        fprintf(stderr, "layerwise: out of memory\n");
-        return EXIT_INVALID;
+    sweep_ctx c = {m, LW_NONE, &a};
+    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &c.variant);
+    if (!rc) {
+        static const cli_hazard_ops ops = {
+            .run = run, .json = json, .text = text, .csv = csv,
+            .free = free_result};
+        rc = cli_each_hazard(&a, m, &ops, &c);
     }
-    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &variant);
-    if (!rc)
-        rc = cli_hazards(&a, m, hz, &nh);
-    cli_sink sink;
-    if (!rc)
-        rc = cli_sink_open(&sink, a.output);
-    if (rc) {
-        lw_free(hz);
-        lw_model_free(m);
-        return rc;
-    }
-    json_t *arr = a.format == FMT_JSON ? json_array() : NULL;
-    int ok = 1;
-    for (size_t i = 0; i < nh && ok; i++) {
-        lw_error err = LW_ERROR_INIT;
-        lw_sweep *s = NULL;
-        lw_status st = lw_sweep_run(m, variant, hz[i], a.event, a.from, a.to,
-                                    a.steps, a.log_scale, &a.opt, &s, &err);
-        if (st != LW_OK) {
-            fprintf(stderr, "layerwise: %s: hazard \"%s\":\n", m->file,
-                    m->nodes[m->hazards[hz[i]]].id);
-            cli_print_errors(&err);
-            lw_error_clear(&err);
-            rc = cli_exit_code(st);
-            ok = 0;
-            break;
-        }
-        if (a.format == FMT_JSON) {
-            json_array_append_new(arr, lw_sweep_json(m, s));
-        } else if (a.format == FMT_CSV) {
-            lw_render_sweep_csv(sink.fp, m, s, i == 0);
-        } else {
-            if (i)
-                fputs("\n", sink.fp);
-            lw_render_sweep_text(sink.fp, m, s);
-        }
-        lw_sweep_free(s);
-    }
-    if (ok && a.format == FMT_JSON) {
-        json_t *doc;
-        if (nh == 1) {
-            doc = json_incref(json_array_get(arr, 0));
-        } else {
-            doc = json_object();
-            json_object_set(doc, "hazards", arr);
-            json_object_set_new(doc, "caution", json_string(lw_caution()));
-        }
-        if (lw_json_write(sink.fp, doc))
-            ok = 0, rc = EXIT_INVALID;
-    } else if (ok && a.format == FMT_TEXT) {
-        lw_text_caution(sink.fp);
-    }
-    json_decref(arr);
-    int crc = cli_sink_close(&sink, ok);
-    if (!rc)
-        rc = crc;
-    lw_free(hz);
     lw_model_free(m);
     return rc;
 }

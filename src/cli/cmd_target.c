@@ -2,7 +2,6 @@
 #include <string.h>
 
 #include "cli/cli.h"
-#include "layerwise/alloc.h"
 #include "layerwise/render_target.h"
 
 static const char help[] =
@@ -24,6 +23,41 @@ static const char help[] =
     "\n"
     "exit status: 0 done, 1 invalid model or analysis stopped, 2 usage\n";
 
+typedef struct target_ctx {
+    const lw_model *m;
+    size_t variant;
+    const cli_args *a;
+} target_ctx;
+
+static lw_status run(void *ctx, size_t hazard, void **res, lw_error *err)
+{
+    target_ctx *c = ctx;
+    const lw_node *h = &c->m->nodes[c->m->hazards[hazard]];
+    double goal = c->a->goal_set ? c->a->goal : h->tolerable;
+    return lw_target_run(c->m, c->variant, hazard, goal, &c->a->opt,
+                         (lw_target **)res, err);
+}
+
+static json_t *json(const lw_model *m, const void *res)
+{
+    return lw_target_json(m, res);
+}
+
+static void text(void *ctx, FILE *out, const lw_model *m, const void *res)
+{
+    (void)ctx;
+    lw_render_target_text(out, m, res);
+}
+
+static void csv(void *ctx, FILE *out, const lw_model *m, const void *res,
+                bool header)
+{
+    (void)ctx;
+    lw_render_target_csv(out, m, res, header);
+}
+
+static void free_result(void *res) { lw_target_free(res); }
+
 int cmd_target(int argc, char **argv)
 {
     cli_args a;
@@ -39,77 +73,24 @@ int cmd_target(int argc, char **argv)
     rc = cli_load(&a, &m);
     if (rc)
         return rc;
-    size_t variant = LW_NONE, nh = 0;
-    size_t *hz = lw_malloc((m->nhazards + 1) * sizeof *hz);
-    if (!hz) {
-        lw_model_free(m);
-        return EXIT_INVALID;
-    }
-    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &variant);
-    if (!rc)
-        rc = cli_hazards(&a, m, hz, &nh);
-    for (size_t i = 0; !rc && i < nh; i++) {
-        const lw_node *h = &m->nodes[m->hazards[hz[i]]];
+    target_ctx c = {m, LW_NONE, &a};
+    rc = cli_variant(m, a.nvariants ? a.variants[0] : NULL, &c.variant);
+    for (size_t i = 0; !rc && i < m->nhazards; i++) {
+        const lw_node *h = &m->nodes[m->hazards[i]];
+        if (a.hazard && strcmp(a.hazard, h->id))
+            continue;
         if (!a.goal_set && !h->has_tolerable) {
             fprintf(stderr, "layerwise: %s: hazard \"%s\" has no tolerable "
                     "level; give --goal P\n", m->file, h->id);
             rc = EXIT_USAGE;
         }
     }
-    cli_sink sink;
-    if (!rc)
-        rc = cli_sink_open(&sink, a.output);
-    if (rc) {
-        lw_free(hz);
-        lw_model_free(m);
-        return rc;
+    if (!rc) {
+        static const cli_hazard_ops ops = {
+            .run = run, .json = json, .text = text, .csv = csv,
+            .free = free_result};
+        rc = cli_each_hazard(&a, m, &ops, &c);
     }
-    json_t *arr = json_array();
-    int ok = 1;
-    for (size_t i = 0; i < nh && ok; i++) {
-        const lw_node *h = &m->nodes[m->hazards[hz[i]]];
-        double goal = a.goal_set ? a.goal : h->tolerable;
-        lw_error err = LW_ERROR_INIT;
-        lw_target *t = NULL;
-        lw_status st = lw_target_run(m, variant, hz[i], goal, &a.opt, &t,
-                                     &err);
-        if (st != LW_OK) {
-            cli_print_errors(&err);
-            lw_error_clear(&err);
-            rc = cli_exit_code(st);
-            ok = 0;
-            break;
-        }
-        if (a.format == FMT_JSON)
-            json_array_append_new(arr, lw_target_json(m, t));
-        else if (a.format == FMT_CSV)
-            lw_render_target_csv(sink.fp, m, t, i == 0);
-        else {
-            if (i)
-                fputc('\n', sink.fp);
-            lw_render_target_text(sink.fp, m, t);
-        }
-        lw_target_free(t);
-    }
-    if (ok && a.format == FMT_JSON) {
-        json_t *doc;
-        if (nh == 1) {
-            doc = json_incref(json_array_get(arr, 0));
-        } else {
-            doc = json_object();
-            json_object_set(doc, "hazards", arr);
-            json_object_set_new(doc, "caution", json_string(lw_caution()));
-        }
-        if (lw_json_write(sink.fp, doc))
-            ok = 0, rc = EXIT_INVALID;
-    } else if (ok && a.format == FMT_TEXT) {
-        lw_text_caution(sink.fp);
-    }
-    json_decref(arr);
-    int crc = cli_sink_close(&sink, ok);
-    if (!rc)
-        rc = crc;
-    lw_free(hz);
     lw_model_free(m);
     return rc;
 }

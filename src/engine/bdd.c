@@ -59,7 +59,7 @@ typedef struct centry {
     uint32_t f, g, op, r;
 } centry;
 
-enum { OP_AND = 1, OP_OR = 2, OP_NOT = 3 };
+enum { OP_AND = 1, OP_OR = 2, OP_NOT = 3, OP_WITHOUT = 4 };
 
 struct lw_bdd {
     int zdd;            /* reduction rule: 0 BDD, 1 ZBDD */
@@ -387,6 +387,49 @@ lw_bref lw_bdd_atleast(lw_bdd *b, uint32_t k, const lw_bref *in, size_t n)
     }
     lw_bref r = row[k];
     lw_free(row);
+    return r;
+}
+
+/* ZBDD: the sets of P that hold no set of Q (methods.md 7.6), memoised in
+ * the manager's operation cache.  Recurses on the C stack, at most twice
+ * the number of levels deep. */
+lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q)
+{
+    if (P == LW_BREF_INVALID || Q == LW_BREF_INVALID || z->status != LW_OK)
+        return LW_BREF_INVALID;
+    if (P == 0) return 0;
+    if (Q == 0) return P;
+    if (Q == 1) return 0;           /* the empty set is inside every set */
+    if (P == 1) return 1;           /* {} holds no non-empty set */
+    if (P == Q) return 0;
+    centry *c = &z->cache[hash3(OP_WITHOUT, P, Q) & (uint32_t)(z->ncache - 1)];
+    if (c->op == OP_WITHOUT && c->f == P && c->g == Q)
+        return c->r;
+    const node *p = &z->nodes[P], *q = &z->nodes[Q];
+    uint32_t x = p->level, y = q->level;
+    lw_bref r;
+    if (x < y) {
+        lw_bref ph = p->hi, pl = p->lo;
+        lw_bref h = lw_zdd_without(z, ph, Q);
+        lw_bref l = lw_zdd_without(z, pl, Q);
+        r = lw_bdd_mk(z, x, h, l);
+    } else if (x > y) {
+        r = lw_zdd_without(z, P, q->lo);
+    } else {
+        lw_bref ph = p->hi, pl = p->lo, qh = q->hi, ql = q->lo;
+        lw_bref h1 = lw_zdd_without(z, ph, qh);
+        lw_bref h = lw_zdd_without(z, h1, ql);
+        lw_bref l = lw_zdd_without(z, pl, ql);
+        r = lw_bdd_mk(z, x, h, l);
+    }
+    if (r != LW_BREF_INVALID) {
+        /* the arena may have moved, and the cache grown: look again */
+        c = &z->cache[hash3(OP_WITHOUT, P, Q) & (uint32_t)(z->ncache - 1)];
+        c->f = P;
+        c->g = Q;
+        c->op = OP_WITHOUT;
+        c->r = r;
+    }
     return r;
 }
 

@@ -41,79 +41,14 @@ struct lw_cut_family {
     double *best;           /* most probable completion below each node */
 };
 
-typedef struct wentry {
-    uint32_t p, q, r, used;
-} wentry;
-
-typedef struct mcs_ctx {
-    const lw_diagram *d;
-    lw_bdd *z;
-    uint32_t *memo;         /* per BDD node: its family, or UINT32_MAX */
-    wentry *cache;          /* lossy cache of 'without' */
-    size_t ncache;
-} mcs_ctx;
-
-static inline uint32_t hash2(uint32_t a, uint32_t b)
-{
-    uint64_t h = (uint64_t)a * 0x9E3779B97F4A7C15ull ^
-                 (uint64_t)b * 0xC2B2AE3D27D4EB4Full;
-    h ^= h >> 32;
-    return (uint32_t)h;
-}
-
-/* The sets of P that hold no set of Q. */
-static uint32_t without(mcs_ctx *c, uint32_t P, uint32_t Q)
-{
-    if (P == LW_BREF_INVALID || Q == LW_BREF_INVALID)
-        return LW_BREF_INVALID;
-    if (P == 0) return 0;
-    if (Q == 0) return P;
-    if (Q == 1) return 0;           /* the empty set is inside every set */
-    if (P == 1) return 1;           /* {} holds no non-empty set */
-    if (P == Q) return 0;
-    wentry *e = &c->cache[hash2(P, Q) & (c->ncache - 1)];
-    if (e->used && e->p == P && e->q == Q)
-        return e->r;
-    lw_bdd *z = c->z;
-    uint32_t x = lw_bdd_level(z, P), y = lw_bdd_level(z, Q);
-    uint32_t r;
-    if (x < y) {
-        uint32_t h = without(c, lw_bdd_hi(z, P), Q);
-        uint32_t l = without(c, lw_bdd_lo(z, P), Q);
-        r = lw_bdd_mk(z, x, h, l);
-    } else if (x > y) {
-        r = without(c, P, lw_bdd_lo(z, Q));
-    } else {
-        uint32_t h1 = without(c, lw_bdd_hi(z, P), lw_bdd_hi(z, Q));
-        uint32_t h = without(c, h1, lw_bdd_lo(z, Q));
-        uint32_t l = without(c, lw_bdd_lo(z, P), lw_bdd_lo(z, Q));
-        r = lw_bdd_mk(z, x, h, l);
-    }
-    if (r != LW_BREF_INVALID) {
-        e = &c->cache[hash2(P, Q) & (c->ncache - 1)];
-        e->p = P;
-        e->q = Q;
-        e->r = r;
-        e->used = 1;
-    }
-    return r;
-}
-
 lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
                             size_t max_nodes, lw_cut_family **out,
                             lw_error *err)
 {
     *out = NULL;
     lw_cut_family *f = lw_calloc(1, sizeof *f);
-    mcs_ctx c;
-    memset(&c, 0, sizeof c);
-    c.d = d;
-    c.ncache = 1u << 16;
-    while (c.ncache < (size_t)d->n && c.ncache < (1u << 16))
-        c.ncache <<= 1;
-    c.memo = lw_malloc(d->n * sizeof *c.memo);
-    c.cache = lw_calloc(c.ncache, sizeof *c.cache);
-    if (!f || !c.memo || !c.cache)
+    uint32_t *memo = lw_malloc(d->n * sizeof *memo);  /* BDD node -> ZBDD */
+    if (!f || !memo)
         goto oom;
     f->nlevels = d->nlevels;
     f->q = lw_malloc((d->nlevels + 1) * sizeof *f->q);
@@ -121,34 +56,30 @@ lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
     if (!f->q || !f->z)
         goto oom;
     memcpy(f->q, q, d->nlevels * sizeof *q);
-    c.z = f->z;
-    c.memo[0] = 0;
-    c.memo[1] = 1;
+    memo[0] = 0;
+    memo[1] = 1;
     /* nodes are in topological order: children first */
     for (uint32_t i = 2; i < d->n; i++) {
-        uint32_t L = c.memo[d->lo[i]];
-        uint32_t H = without(&c, c.memo[d->hi[i]], L);
-        c.memo[i] = lw_bdd_mk(f->z, d->level[i], H, L);
-        if (c.memo[i] == LW_BREF_INVALID)
+        uint32_t L = memo[d->lo[i]];
+        uint32_t H = lw_zdd_without(f->z, memo[d->hi[i]], L);
+        memo[i] = lw_bdd_mk(f->z, d->level[i], H, L);
+        if (memo[i] == LW_BREF_INVALID)
             break;
     }
-    uint32_t root = c.memo[d->root];
+    uint32_t root = memo[d->root];
     if (lw_bdd_status(f->z) == LW_ELIMIT) {
         lw_error_set(err, LW_ELIMIT, NULL, 0, "the cut-set family reached "
                      "the node limit of %zu nodes (--max-nodes); raise it "
                      "or analyse a smaller model",
                      lw_bdd_max_nodes(f->z));
-        lw_free(c.memo);
-        lw_free(c.cache);
+        lw_free(memo);
         lw_cut_family_free(f);
         return LW_ELIMIT;
     }
     if (root == LW_BREF_INVALID)
         goto oom;
-    lw_free(c.memo);
-    lw_free(c.cache);
-    c.memo = NULL;
-    c.cache = NULL;
+    lw_free(memo);
+    memo = NULL;
     if (lw_diagram_freeze(f->z, root, d->nlevels, d->level_var, &f->fam,
                           err) != LW_OK) {
         lw_cut_family_free(f);
@@ -173,8 +104,7 @@ lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
     *out = f;
     return LW_OK;
 oom:
-    lw_free(c.memo);
-    lw_free(c.cache);
+    lw_free(memo);
     lw_cut_family_free(f);
     return lw_error_oom(err);
 }
