@@ -83,8 +83,9 @@ static unsigned needs(int key)
     case K_VARIANT: return OPT_VARIANT;
     case K_FORMAT: return OPT_FORMAT;
     case 'o': return OPT_OUTPUT;
-    case K_TOP: case K_CUTOFF: case K_MAX_ORDER: case K_TABLE:
+    case K_TOP: case K_CUTOFF: case K_MAX_ORDER:
         return OPT_CUTS;
+    case K_TABLE: return OPT_CUTS | OPT_LOG;
     case K_GOAL: return OPT_GOAL;
     case K_SAMPLES: case K_SEED: case K_THREADS: return OPT_MC;
     case K_EVENT: case K_FROM: case K_TO: case K_STEPS: case K_LOGSCALE:
@@ -159,8 +160,13 @@ int cli_parse(int argc, char **argv, unsigned accept, const char *help,
                              ? "text, json or csv" : "text or json");
             break;
         case K_TABLE:
-            if (strcmp(optarg, "cut-sets") && strcmp(optarg, "importance"))
-                return usage("--table takes %s", "cut-sets or importance");
+            if ((accept & OPT_LOG) ? strcmp(optarg, "layers") &&
+                                         strcmp(optarg, "together")
+                                   : strcmp(optarg, "cut-sets") &&
+                                         strcmp(optarg, "importance"))
+                return usage("--table takes %s", (accept & OPT_LOG)
+                             ? "layers or together"
+                             : "cut-sets or importance");
             a->table = optarg;
             break;
         case 'o': a->output = optarg; break;

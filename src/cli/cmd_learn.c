@@ -26,7 +26,7 @@ static const char help[] =
     "  -o NEW.xml           also write the model with the updated counts\n"
     "                       (atomically; never the input model itself)\n"
     "  --format text|json|csv   the report on standard output (csv: the\n"
-    "                       layers table)\n"
+    "                       layers table; --table together: the pairs)\n"
     "  --max-bytes N, --max-events N   input limits (see check --help)\n"
     "\n"
     "exit status: 0 done, 1 invalid model or log (nothing written), 2 usage\n";
@@ -113,7 +113,8 @@ int cmd_learn(int argc, char **argv)
         if (lw_json_write(stdout, lw_learn_json(m, l)))
             rc = EXIT_INVALID;
     } else if (a.format == FMT_CSV) {
-        lw_render_learn_csv(stdout, m, l, false);
+        lw_render_learn_csv(stdout, m, l,
+                            a.table && !strcmp(a.table, "together"));
     } else {
         lw_render_learn_text(stdout, m, l);
         if (a.output)

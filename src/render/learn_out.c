@@ -83,21 +83,21 @@ void lw_render_learn_csv(FILE *out, const lw_model *m, const lw_learn *l,
 {
     if (together) {
         fputs("first,second,after_first_missed,both_missed,nominal,rate,"
-              "p_value,suggested_level,modelled_level\n", out);
+              "p_value,suggested_level,modelled_level\r\n", out);
         for (size_t i = 0; i < l->npairs; i++) {
             const lw_learn_pair *p = &l->pairs[i];
             lw_csv_field(out, nid(m, p->first));
             fputc(',', out);
             lw_csv_field(out, nid(m, p->second));
-            fprintf(out, ",%lu,%lu,%.17g,%.17g,%.17g,%s,%s\n", p->n, p->m,
+            fprintf(out, ",%lu,%lu,%.17g,%.17g,%.17g,%s,%s\r\n", p->n, p->m,
                     p->nominal, p->rate, p->p_value,
                     lw_level_name(p->suggested),
                     p->modelled ? lw_level_name(p->modelled_level) : "");
         }
         return;
     }
-    fputs("id,label,reached,missed,model_count,model_of,combined_missed,"
-          "combined_reached,estimate,ci95_low,ci95_high,nominal\n", out);
+    fputs("id,label,reached,missed,model_count,model_of,combined_reached,"
+          "combined_missed,estimate,ci95_low,ci95_high,nominal\r\n", out);
     for (size_t i = 0; i < l->nlayers; i++) {
         const lw_learn_layer *y = &l->layers[i];
         lw_csv_field(out, nid(m, y->node));
@@ -108,7 +108,7 @@ void lw_render_learn_csv(FILE *out, const lw_model *m, const lw_learn *l,
             fprintf(out, "%.0f,%.0f", y->model_count, y->model_of);
         else
             fputc(',', out);
-        fprintf(out, ",%.0f,%.0f,%.17g,%.17g,%.17g,%.17g\n", y->M, y->R,
+        fprintf(out, ",%.0f,%.0f,%.17g,%.17g,%.17g,%.17g\r\n", y->R, y->M,
                 y->estimate, y->ci_lo, y->ci_hi, y->nominal);
     }
 }

@@ -617,7 +617,7 @@ void lw_render_sweep_csv(FILE *out, const lw_model *m, const lw_sweep *s,
         csv_num(out, p->per_year, s->has_exposure);
         fputc(',', out);
         if (s->has_tolerable)
-            fputs(p->probability <= s->tolerable ? "yes" : "no", out);
+            fputs(p->probability <= s->tolerable ? "true" : "false", out);
         fputs("\r\n", out);
     }
 }
