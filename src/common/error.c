@@ -35,6 +35,70 @@ lw_status lw_error_oom(lw_error *err)
     return LW_ENOMEM;
 }
 
+/* A message quotes what it found in the input, which may be megabytes
+ * long (a 2 MB "id" in a log): keep its first and last parts, cut at
+ * UTF-8 character boundaries, and say how much was left out between. */
+#define LW_MSG_HEAD 1200
+#define LW_MSG_TAIL 600
+static void cut_long(char *msg)
+{
+    size_t len = strlen(msg);
+    if (len <= LW_MSG_HEAD + LW_MSG_TAIL + 64)
+        return;
+    size_t head = LW_MSG_HEAD, tail = len - LW_MSG_TAIL;
+    while (head > 0 && ((unsigned char)msg[head] & 0xC0) == 0x80)
+        head--;
+    while (tail < len && ((unsigned char)msg[tail] & 0xC0) == 0x80)
+        tail++;
+    char mark[64];
+    int ml = snprintf(mark, sizeof mark, " [... %zu bytes left out ...] ",
+                      tail - head);
+    /* the mark is shorter than what it replaces */
+    memcpy(msg + head, mark, (size_t)ml);
+    memmove(msg + head + (size_t)ml, msg + tail, len - tail + 1);
+}
+
+/* A message is one line of plain text: control characters that came
+ * from the input (a line break inside a quoted CSV field, an escape
+ * sequence) are written as \n, \r or \xHH, so that they can neither
+ * forge a "layerwise: FILE:LINE:" line nor drive the terminal.  Returns
+ * 'msg' or a new string (then 'msg' is freed); 'msg' when out of memory,
+ * with the controls replaced by '?'. */
+static char *one_line(char *msg)
+{
+    size_t extra = 0;
+    for (const unsigned char *p = (const unsigned char *)msg; *p; p++)
+        if ((*p < 0x20 && *p != '\t') || *p == 0x7f)
+            extra += 3;
+    if (!extra)
+        return msg;
+    size_t len = strlen(msg);
+    char *out = lw_malloc(len + extra + 1);
+    if (!out) {
+        for (char *p = msg; *p; p++)
+            if (((unsigned char)*p < 0x20 && *p != '\t') || *p == 0x7f)
+                *p = '?';
+        return msg;
+    }
+    char *o = out;
+    for (const unsigned char *p = (const unsigned char *)msg; *p; p++) {
+        if ((*p >= 0x20 || *p == '\t') && *p != 0x7f) {
+            *o++ = (char)*p;
+            continue;
+        }
+        *o++ = '\\';
+        if (*p == '\n')
+            *o++ = 'n';
+        else if (*p == '\r')
+            *o++ = 'r';
+        else
+            o += sprintf(o, "x%02x", *p);
+    }
+    *o = '\0';
+    lw_free(msg);
+    return out;
+}
+
 lw_status lw_error_vset(lw_error *err, lw_status code, const char *file,
                         long line, const char *fmt, va_list ap)
 {
@@ -62,6 +126,8 @@ lw_status lw_error_vset(lw_error *err, lw_status code, const char *file,
         return code;
     }
     vsnprintf(msg, (size_t)n + 1, fmt, ap);
+    cut_long(msg);
+    msg = one_line(msg);
     lw_diag *items = lw_grow(err->items, &err->cap, err->count + 1,
                              sizeof *items);
     if (!items) {

@@ -1,0 +1,263 @@
+/*
+ * fuzz_model.c - libFuzzer harness: arbitrary bytes as a model file.
+ *
+ * Each input is loaded with lw_model_load_memory; when it loads, every
+ * variant is compiled, and for a few hazards and variants the questions
+ * users ask are run with small limits (analyze, target, a short Monte
+ * Carlo run, an incident on the first events, the DOT diagram and the
+ * HTML report), and the results are rendered to /dev/null.
+ *
+ * Besides crashes, leaks and undefined behaviour (the sanitizers), the
+ * harness traps on broken contracts:
+ *   - a call returns LW_OK exactly when it hands back a result;
+ *   - a failed call leaves a status and a message (or the OOM flag) in
+ *     its lw_error, and every message is one line;
+ *   - a probability is a number in [0, 1]; for a monotone function the
+ *     rare-event sum and the min-cut upper bound are not below the exact
+ *     value (Esary-Proschan; common practice, no source), Birnbaum values
+ *     lie in [0, 1] and Monte Carlo percentiles are ordered.
+ *
+ * Build: cmake -DLW_FUZZ=ON with clang (see fuzz/CMakeLists.txt).
+ */
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "layerwise/alloc.h"
+#include "layerwise/analysis.h"
+#include "layerwise/incident.h"
+#include "layerwise/jsonw.h"
+#include "layerwise/model.h"
+#include "layerwise/network.h"
+#include "layerwise/render.h"
+#include "layerwise/render_incident.h"
+#include "layerwise/render_mc.h"
+#include "layerwise/render_target.h"
+#include "layerwise/report.h"
+#include "layerwise/target.h"
+#include "layerwise/uncertainty.h"
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
+
+#define MAX_HAZARDS 3       /* hazards analysed per input */
+#define MAX_VARIANTS 2      /* variants analysed per hazard (besides none) */
+
+static FILE *devnull(void)
+{
+    static FILE *f;
+    if (!f)
+        f = fopen("/dev/null", "w");
+    if (!f)
+        abort();
+    return f;
+}
+
+#define CHECK(cond)                                                        \
+    do {                                                                   \
+        if (!(cond)) {                                                     \
+            fprintf(stderr, "fuzz_model: broken contract: %s (%s:%d)\n",  \
+                    #cond, __FILE__, __LINE__);                            \
+            abort();                                                       \
+        }                                                                  \
+    } while (0)
+
+static int is_prob(double p) { return p >= 0.0 && p <= 1.0; }
+
+/* After a call: status and result agree, a failure says why. */
+static void check_call(lw_status st, const void *result, lw_error *err)
+{
+    if (st == LW_OK) {
+        CHECK(result != NULL);
+    } else {
+        CHECK(result == NULL);
+        CHECK(err->code != LW_OK);
+        CHECK(err->count > 0 || err->oom);
+        CHECK(st != LW_EINTERNAL);
+    }
+    for (size_t i = 0; i < err->count; i++) {
+        CHECK(err->items[i].message != NULL);
+        CHECK(strchr(err->items[i].message, '\n') == NULL);
+    }
+    lw_error_clear(err);
+}
+
+static void check_analysis(const lw_analysis *a)
+{
+    double p = a->probability;
+    CHECK(is_prob(p));
+    double slack = 1e-9 * p + 1e-300;
+    CHECK(a->rare_event >= p - slack);
+    if (a->mcub_exact) {
+        CHECK(is_prob(a->min_cut_upper_bound));
+        CHECK(a->min_cut_upper_bound >= p - slack);
+    }
+    CHECK(a->cut_set_count >= 0);
+    for (size_t i = 0; i < a->ncut_sets; i++) {
+        CHECK(is_prob(a->cut_sets[i].probability));
+        /* a hazard that is always true has one empty cut set */
+        CHECK(a->cut_sets[i].order >= 1 || a->probability == 1.0);
+        if (i)
+            CHECK(a->cut_sets[i].probability <=
+                  a->cut_sets[i - 1].probability);
+    }
+    for (size_t i = 0; i < a->nimportance; i++) {
+        const lw_importance *r = &a->importance[i];
+        CHECK(r->birnbaum >= -1e-12 && r->birnbaum <= 1 + 1e-12);
+        CHECK(is_prob(r->p_true) || fabs(r->p_true - 1) < 1e-12);
+        CHECK(r->p_false >= -1e-300 && r->p_false <= 1 + 1e-12);
+    }
+}
+
+static void run_hazard(const lw_model *m, size_t h, size_t v)
+{
+    FILE *out = devnull();
+    lw_options opt;
+    lw_options_init(&opt);
+    opt.max_nodes = 200000;
+    opt.top = 20;
+    opt.max_cut_sets = 10000;
+    lw_error err = LW_ERROR_INIT;
+
+    lw_analysis *a = NULL;
+    lw_status st = lw_analyze(m, v, h, &opt, &a, &err);
+    check_call(st, a, &err);
+    if (!a)
+        return;
+    check_analysis(a);
+    lw_render_analysis_text(out, m, a, 20);
+    lw_render_cut_sets_csv(out, m, a, true);
+    lw_render_importance_csv(out, m, a, true);
+    static lw_jw jw;
+    lw_jw_init(&jw, out);
+    lw_analysis_write_json(&jw, m, a);
+    lw_jw_flush(&jw);
+    lw_analysis_free(a);
+
+    lw_target *t = NULL;
+    st = lw_target_run(m, v, h, 1e-6, &opt, &t, &err);
+    check_call(st, t, &err);
+    if (t) {
+        lw_render_target_text(out, m, t);
+        lw_render_target_csv(out, m, t, true);
+        lw_json_write(out, lw_target_json(m, t));
+        lw_target_free(t);
+    }
+
+    /* an incident: the first event failed, the second held */
+    const char *ev[2] = {NULL, NULL};
+    size_t nev = 0;
+    for (size_t i = 0; i < m->nnodes && nev < 2; i++) {
+        lw_node_kind k = m->nodes[i].kind;
+        if ((k == LW_NODE_ERROR || k == LW_NODE_SAFEGUARD) && m->nodes[i].id)
+            ev[nev++] = m->nodes[i].id;
+    }
+    if (nev) {
+        lw_incident *r = NULL;
+        st = lw_incident_run(m, v, h, ev, 1, ev + 1, nev - 1, &opt, &r, &err);
+        check_call(st, r, &err);
+        if (r) {
+            CHECK(is_prob(r->conditional));
+            lw_render_incident_text(out, m, r, 10);
+            lw_json_write(out, lw_incident_json(m, r));
+            lw_incident_free(r);
+        }
+    }
+}
+
+static void run_uncertainty(const lw_model *m, size_t h)
+{
+    lw_options opt;
+    lw_options_init(&opt);
+    opt.max_nodes = 200000;
+    lw_mc_options mc;
+    lw_mc_options_init(&mc);
+    mc.samples = 64;
+    mc.seed = 7;
+    lw_error err = LW_ERROR_INIT;
+    lw_uncertainty *u = NULL;
+    lw_status st = lw_uncertainty_run(m, LW_NONE, h, &opt, &mc, &u, &err);
+    check_call(st, u, &err);
+    if (!u)
+        return;
+    CHECK(is_prob(u->mean) && is_prob(u->p05) && is_prob(u->p95));
+    /* ordered up to rounding: interpolating between equal samples can
+     * give one ulp more (reported: uncertainty.c quantiles) */
+    CHECK(u->p05 <= u->p50 * (1 + 1e-12) && u->p50 <= u->p95 * (1 + 1e-12));
+    lw_render_uncertainty_text(devnull(), m, u);
+    lw_json_write(devnull(), lw_uncertainty_json(m, u));
+    lw_uncertainty_free(u);
+}
+
+static void run_report(const lw_model *m)
+{
+    lw_options opt;
+    lw_options_init(&opt);
+    opt.max_nodes = 200000;
+    opt.max_cut_sets = 10000;
+    lw_report_options ro;
+    lw_report_options_init(&ro);
+    ro.monte_carlo = false;
+    ro.all_variants = true;
+    ro.source_name = "fuzz.xml";
+    ro.generated = "2026-01-01";
+    size_t hz[MAX_HAZARDS];
+    size_t nh = m->nhazards < MAX_HAZARDS ? m->nhazards : MAX_HAZARDS;
+    for (size_t i = 0; i < nh; i++)
+        hz[i] = i;
+    lw_error err = LW_ERROR_INIT;
+    lw_report *r = NULL;
+    lw_status st = lw_report_build(m, hz, nh, NULL, 0, &opt, &ro, &r, &err);
+    check_call(st, r, &err);
+    if (r) {
+        st = lw_report_write_html(devnull(), r, &err);
+        CHECK(st == LW_OK);
+        lw_error_clear(&err);
+        lw_report_free(r);
+    }
+    lw_diagram_options dop = {LW_NONE, LW_NONE};
+    st = lw_render_dot(devnull(), m, &dop, &err);
+    CHECK(st == LW_OK || err.count > 0 || err.oom);
+    lw_error_clear(&err);
+}
+
+int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
+{
+    lw_load_limits lim;
+    memset(&lim, 0, sizeof lim);
+    lim.max_bytes = (size_t)1 << 20;
+    lim.max_nodes = 20000;
+    lw_error err = LW_ERROR_INIT;
+    lw_model *m = NULL;
+    lw_status st = lw_model_load_memory((const char *)data, size, "fuzz.xml",
+                                        &lim, &m, &err);
+    check_call(st, m, &err);
+    if (!m)
+        return 0;
+    CHECK(m->nhazards >= 1);
+
+    /* every variant compiles (or says why not) */
+    for (size_t v = 0; v <= m->nvariants && v <= 8; v++) {
+        lw_network *net = NULL;
+        size_t var = v == 0 ? LW_NONE : v - 1;
+        st = lw_compile(m, var, &net, &err);
+        check_call(st, net, &err);
+        if (net) {
+            for (size_t i = 0; i < net->nvars; i++)
+                CHECK(is_prob(net->vars[i].p));
+            lw_network_free(net);
+        }
+    }
+    size_t nh = m->nhazards < MAX_HAZARDS ? m->nhazards : MAX_HAZARDS;
+    for (size_t h = 0; h < nh; h++) {
+        run_hazard(m, h, LW_NONE);
+        for (size_t v = 0; v < m->nvariants && v < MAX_VARIANTS; v++)
+            run_hazard(m, h, v);
+    }
+    run_uncertainty(m, 0);
+    if (m->nnodes <= 2000)
+        run_report(m);
+    lw_model_free(m);
+    return 0;
+}
