@@ -85,6 +85,10 @@ int cmd_check(int argc, char **argv)
         lw_text_caution(stdout);
         rc = EXIT_DONE;
     }
+    if (fflush(stdout) != 0 || ferror(stdout)) {
+        fprintf(stderr, "layerwise: writing the output failed\n");
+        rc = EXIT_INVALID;
+    }
     lw_model_free(m);
     return rc;
 }

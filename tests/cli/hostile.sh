@@ -82,12 +82,12 @@ lines = [head.rstrip(), '<safety-model format="1" id="wide">',
 lines += ['<safeguard id="s%d" p="0.01"/>' % i for i in range(k)]
 lines += ['</vote></hazard>', '</safety-model>']
 w('gen-wide-vote.xml', '\n'.join(lines) + '\n')
-# logs: a 256 KiB note (fine) and a 256 KiB id (echoed, shortened)
+# logs: a 64 KiB note (fine) and a 64 KiB id (echoed, shortened)
 H = 'date,error,missed,caught_by,note\n'
 w('gen-long-log-note.csv', H + '2026-03-02,wrong-tube,lab-history,nurse-1,"'
-  + 'n' * (256 << 10) + '"\n')
+  + 'n' * (64 << 10) + '"\n')
 w('gen-long-log-id.csv', H + '2026-03-02,wrong-tube,lab-history,'
-  + 'i' * (256 << 10) + ',x\n')
+  + 'i' * (64 << 10) + ',x\n')
 EOF
 
 # ---- the lines of /etc/passwd that must never show --------------------
