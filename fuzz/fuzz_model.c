@@ -19,6 +19,7 @@
  *
  * Build: cmake -DLW_FUZZ=ON with clang (see fuzz/CMakeLists.txt).
  */
+#include <float.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -186,7 +187,8 @@ static void run_uncertainty(const lw_model *m, size_t h)
     CHECK(is_prob(u->mean) && is_prob(u->p05) && is_prob(u->p95));
     /* ordered up to rounding: interpolating between equal samples can
      * give one ulp more (reported: uncertainty.c quantiles) */
-    CHECK(u->p05 <= u->p50 * (1 + 1e-12) && u->p50 <= u->p95 * (1 + 1e-12));
+    CHECK(u->p05 <= u->p50 * (1 + 1e-12) + DBL_MIN &&
+          u->p50 <= u->p95 * (1 + 1e-12) + DBL_MIN);
     lw_render_uncertainty_text(devnull(), m, u);
     lw_json_write(devnull(), lw_uncertainty_json(m, u));
     lw_uncertainty_free(u);

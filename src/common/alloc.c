@@ -1,29 +1,37 @@
 /* alloc.c - allocation wrappers with a fault-injection hook for tests. */
 #include "layerwise/alloc.h"
 
+#include <stdatomic.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
-static unsigned long g_count;    /* allocations since the hook was set */
+/* The counter is atomic: the loader validates on a second thread and Monte
+ * Carlo samples on several, and they all allocate.  The hook itself is
+ * set from single-threaded test code only (alloc.h). */
+static atomic_ulong g_count;     /* allocations since the hook was set */
 static unsigned long g_fail_at;  /* 0 = never fail */
 static int g_sticky;             /* fail every allocation after g_fail_at */
 
 void lw_alloc_fail_at(unsigned long n, int sticky)
 {
-    g_count = 0;
+    atomic_store_explicit(&g_count, 0, memory_order_relaxed);
     g_fail_at = n;
     g_sticky = sticky;
 }
 
-unsigned long lw_alloc_count(void) { return g_count; }
+unsigned long lw_alloc_count(void)
+{
+    return atomic_load_explicit(&g_count, memory_order_relaxed);
+}
 
 static int should_fail(void)
 {
-    g_count++;
+    unsigned long c =
+        atomic_fetch_add_explicit(&g_count, 1, memory_order_relaxed) + 1;
     if (g_fail_at == 0)
         return 0;
-    return g_sticky ? g_count >= g_fail_at : g_count == g_fail_at;
+    return g_sticky ? c >= g_fail_at : c == g_fail_at;
 }
 
 void *lw_malloc(size_t size)

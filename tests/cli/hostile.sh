@@ -155,7 +155,12 @@ while IFS= read -r line || [ -n "$line" ]; do
         fail "$label: stderr lacks \"$errfrag\": $(head -c 600 "$TMP/stderr")"
         ok=0
     fi
-    if [ -n "${outfrag:-}" ] && ! grep -a -q -F -- "$outfrag" "$TMP/stdout"; then
+    if [ -n "${outfrag:-}" ] && [ "${outfrag#!}" != "$outfrag" ]; then
+        if grep -a -q -F -- "${outfrag#!}" "$TMP/stdout"; then
+            fail "$label: stdout holds \"${outfrag#!}\""
+            ok=0
+        fi
+    elif [ -n "${outfrag:-}" ] && ! grep -a -q -F -- "$outfrag" "$TMP/stdout"; then
         fail "$label: stdout lacks \"$outfrag\": $(head -c 300 "$TMP/stdout")"
         ok=0
     fi
