@@ -73,6 +73,7 @@ struct lw_bdd {
     centry *cache;
     size_t ncache;      /* power of two */
     lw_status status;
+    uint64_t work;          /* 'without' steps taken, bounded like nodes */
     struct frame *stack;    /* apply's explicit stack */
     size_t stack_cap;
 };
@@ -410,6 +411,12 @@ lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q)
 {
     if (P == LW_BREF_INVALID || Q == LW_BREF_INVALID || z->status != LW_OK)
         return LW_BREF_INVALID;
+    /* its time is not bounded by the nodes it makes: bound the steps too
+     * (64 per allowed node), so a family that cannot be built stops */
+    if (++z->work > 64 * (uint64_t)z->max_nodes) {
+        z->status = LW_ELIMIT;
+        return LW_BREF_INVALID;
+    }
     if (P == 0) return 0;
     if (Q == 0) return P;
     if (Q == 1) return 0;           /* the empty set is inside every set */

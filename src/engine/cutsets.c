@@ -69,8 +69,9 @@ lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
     uint32_t root = memo[d->root];
     if (lw_bdd_status(f->z) == LW_ELIMIT) {
         lw_error_set(err, LW_ELIMIT, NULL, 0, "the cut-set family reached "
-                     "the node limit of %zu nodes (--max-nodes); raise it "
-                     "or analyse a smaller model",
+                     "the limit of %zu nodes (--max-nodes; the work to build "
+                     "it is bounded by 64 steps a node); raise it, or "
+                     "analyse a smaller model or a narrower vote",
                      lw_bdd_max_nodes(f->z));
         lw_free(memo);
         lw_cut_family_free(f);
