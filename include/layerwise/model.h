@@ -141,6 +141,7 @@ typedef struct lw_model {
     size_t *hazards;    /* node indices of hazards, in document order */
     size_t nwarnings;
     char **warnings;    /* "FILE:LINE: text" strings, owned */
+    bool streamed;      /* read as a stream, without a document tree */
 } lw_model;
 
 /* Limits the loader enforces; zero fields take the defaults. */
@@ -149,6 +150,10 @@ typedef struct lw_load_limits {
     size_t max_text;        /* one label/description/source, default 64 KiB */
     size_t max_nodes;       /* events + gates, default 5,000,000 */
     unsigned max_depth;     /* element nesting, default 256 */
+    size_t stream_from;     /* files of this many bytes or more are first
+                               read as a stream, without a document tree
+                               (the same model and messages, less time and
+                               memory); default 1 MiB, SIZE_MAX never */
 } lw_load_limits;
 
 /* Load from memory.  'name' is used in messages ("-" reads as "<stdin>").

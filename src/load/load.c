@@ -24,6 +24,7 @@
 
 #include <libxml/parser.h>
 #include <libxml/tree.h>
+#include <libxml/xmlreader.h>
 #include <libxml/xmlschemas.h>
 #include <errno.h>
 #include <math.h>
@@ -706,15 +707,19 @@ static void read_text_once(loader *L, xmlNodePtr x, char **slot,
     }
 }
 
-static void build_root(loader *L, xmlNodePtr root)
+static void build_root_begin(loader *L, xmlNodePtr root)
 {
     lw_model *m = L->m;
     m->id = attr(L, root, "id");
     if (m->id && !valid_id(m->id))
         bad_id(L, line_of(root), "safety-model", m->id);
-    for (xmlNodePtr c = root->children; c && !L->oom; c = c->next) {
-        if (c->type != XML_ELEMENT_NODE)
-            continue;
+}
+
+/* One child element of the root. */
+static void build_root_child(loader *L, xmlNodePtr c)
+{
+    lw_model *m = L->m;
+    {
         const char *n = ename(c);
         if (!strcmp(n, "title")) {
             read_text_once(L, c, &m->title, &L->title_line);
@@ -724,7 +729,7 @@ static void build_root(loader *L, xmlNodePtr root)
             if (L->exposure_line) {
                 fail(L, line_of(c), "<exposure> appears again; it was "
                      "already given on line %ld", L->exposure_line);
-                continue;
+                return;
             }
             L->exposure_line = line_of(c);
             m->exposure_unit = attr(L, c, "unit");
@@ -748,7 +753,7 @@ static void build_root(loader *L, xmlNodePtr root)
                                     m->nhazards + 1, sizeof *h);
                 if (!h) {
                     nomem(L);
-                    continue;
+                    return;
                 }
                 m->hazards = h;
                 h[m->nhazards++] = hi;
@@ -761,6 +766,14 @@ static void build_root(loader *L, xmlNodePtr root)
             build_variant(L, c);
         }
     }
+}
+
+static void build_root(loader *L, xmlNodePtr root)
+{
+    build_root_begin(L, root);
+    for (xmlNodePtr c = root->children; c && !L->oom; c = c->next)
+        if (c->type == XML_ELEMENT_NODE)
+            build_root_child(L, c);
 }
 
 /* ------------------------------------------------------------------ */
@@ -1340,26 +1353,48 @@ static int next_start_tag(const char *d, size_t len, size_t *pos, long *line)
  * k-th start tag with the k-th element (the document declares no entities
  * by now) and keeps the line where the tag begins in _private.  At the
  * first mismatch of name or order the scan stops and libxml2's lines stand
- * for the rest. */
-static void mark_begin_lines(xmlNodePtr root, const char *d, size_t len)
+ * for the rest.  The scan state carries over, so the streaming loader can
+ * feed it one top-level element at a time. */
+typedef struct tag_scan {
+    const char *d;
+    size_t len;
+    size_t pos;
+    long line;
+    int ok;
+} tag_scan;
+
+static void scan_one(tag_scan *s, xmlNodePtr n)
 {
-    size_t pos = 0;
-    long line = 1;
+    if (!s->ok)
+        return;
+    const char *d = s->d;
+    size_t len = s->len;
+    if (!next_start_tag(d, len, &s->pos, &s->line)) {
+        s->ok = 0;
+        return;
+    }
+    size_t pos = s->pos;
+    size_t nl = strlen((const char *)n->name);
+    char after = pos + 1 + nl < len ? d[pos + 1 + nl] : '\0';
+    if (n->ns || pos + 1 + nl > len ||
+        memcmp(d + pos + 1, n->name, nl) != 0 ||
+        !(after == '>' || after == '/' || after == ' ' ||
+          after == '\t' || after == '\n' || after == '\r') ||
+        s->line > (long)xmlGetLineNo(n)) {
+        s->ok = 0;
+        return;
+    }
+    n->_private = (void *)(intptr_t)s->line;
+    s->pos++;
+}
+
+/* 'root' and every element inside it, in document order. */
+static void scan_tree(tag_scan *s, xmlNodePtr root)
+{
     xmlNodePtr n = root;
-    while (n) {
+    while (n && s->ok) {
         if (n->type == XML_ELEMENT_NODE) {
-            if (!next_start_tag(d, len, &pos, &line))
-                return;
-            size_t nl = strlen((const char *)n->name);
-            char after = pos + 1 + nl < len ? d[pos + 1 + nl] : '\0';
-            if (n->ns || pos + 1 + nl > len ||
-                memcmp(d + pos + 1, n->name, nl) != 0 ||
-                !(after == '>' || after == '/' || after == ' ' ||
-                  after == '\t' || after == '\n' || after == '\r') ||
-                line > (long)xmlGetLineNo(n))
-                return;
-            n->_private = (void *)(intptr_t)line;
-            pos++;
+            scan_one(s, n);
             if (n->children) {
                 n = n->children;
                 continue;
@@ -1371,6 +1406,12 @@ static void mark_begin_lines(xmlNodePtr root, const char *d, size_t len)
             return;
         n = n->next;
     }
+}
+
+static void mark_begin_lines(xmlNodePtr root, const char *d, size_t len)
+{
+    tag_scan s = {d, len, 0, 1, 1};
+    scan_tree(&s, root);
 }
 
 /* Line of the first entity declaration, or 0. */
@@ -1448,6 +1489,24 @@ static void set_limits(lw_load_limits *out, const lw_load_limits *in)
         out->max_nodes = 5000000;
     if (!out->max_depth)
         out->max_depth = 256;
+    if (!out->stream_from)
+        out->stream_from = (size_t)1 << 20;
+}
+
+/* The rules that need the whole model, once every element is read. */
+static void check_model(loader *L, long root_line)
+{
+    if (!L->oom)
+        resolve_refs(L);
+    if (!L->oom)
+        find_cycles(L);
+    if (!L->oom)
+        check_groups(L);
+    if (!L->oom)
+        check_variants(L);
+    if (!L->oom && L->m->nhazards == 0)
+        fail(L, root_line, "the model has no <hazard>; add at least one "
+             "hazard (the top event) with one logic child");
 }
 
 /* Schema validation, run beside the model builder. */
@@ -1496,6 +1555,156 @@ static void merge_errors(lw_error *to, lw_error *from)
     }
 }
 
+/* ---- the streaming path for large files ------------------------------
+ *
+ * libxml2's document tree takes about 17 bytes of memory for every byte
+ * of a model, and building it is most of the time of loading a large
+ * file.  A file of lim.stream_from bytes or more (1 MiB unless the caller
+ * says otherwise) is therefore first read as a
+ * stream: a reader expands one child of the root at a time into a small
+ * tree, the same builders as above read it, and the reader frees it
+ * before the next.  The schema is checked at the same time on a second
+ * thread, by a validator that also reads the bytes as a stream.
+ *
+ * The streaming path only ever says "valid" or "give up".  On any problem
+ * at all (a parse or schema error, a finding of the builders, a DOCTYPE,
+ * a second thread that cannot start) its partial model is dropped and
+ * the file is read again by the tree path, whose messages are the ones
+ * users and tests see.  So the two paths can only differ in speed. */
+typedef struct fast_validation {
+    const char *data;
+    size_t len;
+    int failed;
+    int rc;
+} fast_validation;
+
+static void quiet_error_cb(void *ud, xmlErrorPtr e)
+{
+    if (e && e->level != XML_ERR_WARNING)
+        *(int *)ud = 1;
+}
+
+static void *fast_validate_main(void *arg)
+{
+    fast_validation *v = arg;
+    xmlSetStructuredErrorFunc(&v->failed, quiet_error_cb);
+    xmlSetGenericErrorFunc(NULL, NULL);
+    v->rc = lw_schema_validate_bytes(v->data, v->len);
+    xmlSetStructuredErrorFunc(NULL, NULL);
+    return NULL;
+}
+
+static int bytes_contain(const char *d, size_t len, const char *what)
+{
+    size_t wl = strlen(what);
+    for (const char *p = d; (size_t)(p - d) + wl <= len;) {
+        const char *q = memchr(p, what[0], len - (size_t)(p - d) - wl + 1);
+        if (!q)
+            return 0;
+        if (!memcmp(q, what, wl))
+            return 1;
+        p = q + 1;
+    }
+    return 0;
+}
+
+/* LW_OK with *out set, LW_ENOMEM, or LW_EMODEL meaning "use the tree
+ * path" (nothing reported). */
+static lw_status load_streaming(const char *data, size_t len,
+                                const loader *proto, lw_model **out)
+{
+    *out = NULL;
+    if (bytes_contain(data, len, "<!DOCTYPE") ||
+        bytes_contain(data, len, "<!ENTITY"))
+        return LW_EMODEL;
+    fast_validation V = {data, len, 0, -1};
+    pthread_t thread;
+    if (pthread_create(&thread, NULL, fast_validate_main, &V) != 0)
+        return LW_EMODEL;
+
+    lw_error scratch;
+    lw_error_init(&scratch);
+    loader L = *proto;
+    L.err = &scratch;
+    lw_strmap_init(&L.ids);
+    int parse_failed = 0;
+    xmlSetStructuredErrorFunc(&parse_failed, quiet_error_cb);
+    xmlSetGenericErrorFunc(NULL, NULL);
+    int opts = XML_PARSE_NONET | XML_PARSE_BIG_LINES | XML_PARSE_NOWARNING;
+    if (L.lim.max_depth > 256)
+        opts |= XML_PARSE_HUGE;
+    xmlTextReaderPtr r = xmlReaderForMemory(data, (int)len, L.file, NULL,
+                                            opts);
+    lw_model *m = lw_calloc(1, sizeof *m);
+    int ok = r && m;
+    if (!m)
+        L.oom = 1;
+    if (ok) {
+        L.m = m;
+        m->file = lw_strdup(L.file);
+        if (!m->file)
+            nomem(&L);
+    }
+    tag_scan scan = {data, len, 0, 1, 1};
+    int ret = 0;
+    long root_line = 1;
+    if (ok && !L.failed) {
+        while ((ret = xmlTextReaderRead(r)) == 1 &&
+               xmlTextReaderNodeType(r) != XML_READER_TYPE_ELEMENT)
+            ;
+        xmlNodePtr root = ret == 1 ? xmlTextReaderCurrentNode(r) : NULL;
+        ok = root && !root->ns &&
+             xmlStrEqual(root->name, (const xmlChar *)"safety-model") &&
+             !xmlTextReaderIsEmptyElement(r);
+        if (ok) {
+            scan_one(&scan, root);
+            root_line = line_of(root);
+            build_root_begin(&L, root);
+            ret = xmlTextReaderRead(r);
+        }
+    }
+    while (ok && ret == 1 && !L.failed) {
+        int depth = xmlTextReaderDepth(r);
+        int type = xmlTextReaderNodeType(r);
+        if (depth == 1 && type == XML_READER_TYPE_ELEMENT) {
+            xmlNodePtr c = xmlTextReaderExpand(r);
+            if (!c) {
+                ok = 0;
+                break;
+            }
+            scan_tree(&scan, c);
+            build_root_child(&L, c);
+            ret = xmlTextReaderNext(r);
+        } else {
+            ret = xmlTextReaderRead(r);
+        }
+    }
+    if (ret < 0 || parse_failed)
+        ok = 0;
+    if (r)
+        xmlFreeTextReader(r);
+    xmlSetStructuredErrorFunc(NULL, NULL);
+    if (ok && !L.failed)
+        check_model(&L, root_line);
+    pthread_join(thread, NULL);
+    if (V.rc != 0 || V.failed)
+        ok = 0;
+    if (ok && !L.failed)
+        check_unused(&L);
+    int oom = L.oom;
+    ok = ok && !L.failed;
+    L.m = m;                /* free_loader reads the model's counts */
+    free_loader(&L);
+    lw_error_clear(&scratch);
+    if (!ok) {
+        lw_model_free(m);
+        return oom ? LW_ENOMEM : LW_EMODEL;
+    }
+    m->streamed = true;
+    *out = m;
+    return LW_OK;
+}
+
 lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
                                const lw_load_limits *limits, lw_model **out,
                                lw_error *err)
@@ -1520,6 +1729,17 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
                             "id=\"...\">");
 
     xmlInitParser();
+    if (len >= L.lim.stream_from) {
+        lw_status fs = load_streaming(data, len, &L, out);
+        if (fs == LW_OK) {
+            lw_strmap_free(&L.ids);
+            return LW_OK;
+        }
+        if (fs == LW_ENOMEM) {
+            lw_strmap_free(&L.ids);
+            return lw_error_oom(err);
+        }
+    }
     xml_sink sink = {&L, 0, data, len, -1, 0, -1, ""};
     xmlSetStructuredErrorFunc(&sink, xml_error_cb);
     xmlSetGenericErrorFunc(NULL, NULL);
@@ -1581,17 +1801,7 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
         if (!m->file)
             nomem(&L);
         build_root(&L, root);
-        if (!L.oom)
-            resolve_refs(&L);
-        if (!L.oom)
-            find_cycles(&L);
-        if (!L.oom)
-            check_groups(&L);
-        if (!L.oom)
-            check_variants(&L);
-        if (!L.oom && m->nhazards == 0)
-            fail(&L, line_of(root), "the model has no <hazard>; add at "
-                 "least one hazard (the top event) with one logic child");
+        check_model(&L, line_of(root));
     }
     if (threaded)
         pthread_join(V.thread, NULL);

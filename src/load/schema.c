@@ -2,6 +2,7 @@
 #include "load/schema.h"
 
 #include <libxml/xmlschemas.h>
+#include <stdint.h>
 #include <string.h>
 
 #include "layerwise/model.h"
@@ -10,14 +11,20 @@ extern const char lw_schema_xsd[];      /* generated from docs/model.xsd */
 
 const char *lw_model_schema(void) { return lw_schema_xsd; }
 
-int lw_schema_validate(xmlDocPtr doc)
+static xmlSchemaPtr load_schema(void)
 {
     xmlSchemaParserCtxtPtr pctx =
         xmlSchemaNewMemParserCtxt(lw_schema_xsd, (int)strlen(lw_schema_xsd));
     if (!pctx)
-        return -1;
+        return NULL;
     xmlSchemaPtr schema = xmlSchemaParse(pctx);
     xmlSchemaFreeParserCtxt(pctx);
+    return schema;
+}
+
+int lw_schema_validate(xmlDocPtr doc)
+{
+    xmlSchemaPtr schema = load_schema();
     if (!schema)
         return -1;
     xmlSchemaValidCtxtPtr vctx = xmlSchemaNewValidCtxt(schema);
@@ -26,6 +33,28 @@ int lw_schema_validate(xmlDocPtr doc)
         return -1;
     }
     int rc = xmlSchemaValidateDoc(vctx, doc);
+    xmlSchemaFreeValidCtxt(vctx);
+    xmlSchemaFree(schema);
+    return rc == 0 ? 0 : (rc > 0 ? 1 : -1);
+}
+
+int lw_schema_validate_bytes(const char *data, size_t len)
+{
+    if (len > INT32_MAX)
+        return -1;
+    xmlSchemaPtr schema = load_schema();
+    if (!schema)
+        return -1;
+    xmlSchemaValidCtxtPtr vctx = xmlSchemaNewValidCtxt(schema);
+    /* a copy of the bytes: libxml2's static buffers do not stream */
+    xmlParserInputBufferPtr in =
+        vctx ? xmlParserInputBufferCreateMem(data, (int)len,
+                                             XML_CHAR_ENCODING_NONE)
+             : NULL;
+    int rc = -1;
+    if (in)     /* the validator takes the buffer over */
+        rc = xmlSchemaValidateStream(vctx, in, XML_CHAR_ENCODING_NONE, NULL,
+                                     NULL);
     xmlSchemaFreeValidCtxt(vctx);
     xmlSchemaFree(schema);
     return rc == 0 ? 0 : (rc > 0 ? 1 : -1);

@@ -102,8 +102,8 @@ static void test_malformed_xml(void **state)
     expect_only("hello\n", LW_EPARSE, 1, NULL);
     lw_error err = LW_ERROR_INIT;
     lw_model *m = (lw_model *)1;
-    assert_int_equal(lw_model_load_memory("", 0, "bad.xml", NULL, &m, &err),
-                     LW_EPARSE);
+    assert_int_equal(lw_model_load_memory("", 0, "bad.xml", tu_limits, &m,
+                                          &err), LW_EPARSE);
     assert_null(m);
     assert_int_equal(err.count, 1);
     assert_int_equal(err.items[0].line, 1);
@@ -828,8 +828,8 @@ static void expect_entity_rejected(const char *xml, long line)
 {
     lw_error err = LW_ERROR_INIT;
     lw_model *m = NULL;
-    lw_status st = lw_model_load_memory(xml, strlen(xml), "bad.xml", NULL,
-                                        &m, &err);
+    lw_status st = lw_model_load_memory(xml, strlen(xml), "bad.xml",
+                                        tu_limits, &m, &err);
     assert_no_passwd(&err, m);
     if (st == LW_OK) {
         lw_model_free(m);
@@ -929,8 +929,8 @@ static void test_external_dtd_not_read(void **state)
         /* 7 */ END;
     lw_error err = LW_ERROR_INIT;
     lw_model *m = NULL;
-    lw_status st = lw_model_load_memory(xml, strlen(xml), "dtd.xml", NULL,
-                                        &m, &err);
+    lw_status st = lw_model_load_memory(xml, strlen(xml), "dtd.xml",
+                                        tu_limits, &m, &err);
     assert_no_passwd(&err, m);
     if (st == LW_OK) {
         assert_string_equal(m->title, "T");
@@ -1022,7 +1022,7 @@ static lw_model *load_skeleton(void)
     lw_error err = LW_ERROR_INIT;
     lw_model *m = NULL;
     lw_status st = lw_model_load_file(tu_source_path("tests/load/skeleton.xml"),
-                                      NULL, &m, &err);
+                                      tu_limits, &m, &err);
     if (st != LW_OK) {
         dump(&err);
         lw_error_clear(&err);
@@ -1209,12 +1209,170 @@ static void test_load_file_missing(void **state)
     (void)state;
     lw_error err = LW_ERROR_INIT;
     lw_model *m = (lw_model *)1;
-    assert_int_equal(lw_model_load_file("/nonexistent/model.xml", NULL, &m,
-                                        &err), LW_EIO);
+    assert_int_equal(lw_model_load_file("/nonexistent/model.xml", tu_limits,
+                                        &m, &err), LW_EIO);
     assert_null(m);
     assert_int_equal(err.count, 1);
     assert_string_equal(err.items[0].file, "/nonexistent/model.xml");
     lw_error_clear(&err);
+}
+
+/* ------------------------------------------------------------------ */
+/* the streaming path                                                  */
+
+/* Text of a model of about 'target' bytes that uses every kind of
+ * element: start tags over several lines, comments and processing
+ * instructions between elements, inline events, votes, groups,
+ * dependences, variants and unused events (warnings). */
+static char *big_model(size_t target, size_t *len)
+{
+    size_t cap = 2 * target + (1u << 16), n = 0;
+    char *b = malloc(cap);
+    assert_non_null(b);
+#define PUT(...)                                                           \
+    do {                                                                   \
+        int w_ = snprintf(b + n, cap - n, __VA_ARGS__);                    \
+        assert_true(w_ >= 0 && (size_t)w_ < cap - n);                      \
+        n += (size_t)w_;                                                   \
+    } while (0)
+    PUT("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n"
+        "<!-- generated for the loader tests -->\n"
+        "<safety-model format=\"1\"\n    id=\"big\">\n"
+        "  <title>Streaming &amp; tree</title>\n"
+        "  <description>Both readers must agree.</description>\n"
+        "  <exposure unit=\"transfusion\" per-year=\"1000\"/>\n");
+    size_t i = 0;
+    while (n < target) {
+        PUT("  <error id=\"e%zu\" label=\"Error %zu\" p=\"0.00%zu1\"/>\n"
+            "  <safeguard\n      id=\"s%zu\"\n      label=\"Check %zu\" "
+            "p=\"0.0%zu\"/>\n  <?note %zu?>\n"
+            "  <safeguard id=\"t%zu\" label=\"Second check %zu\">"
+            "<observed count=\"%zu\" of=\"%zu\"/></safeguard>\n"
+            "  <block id=\"b%zu\" label=\"Path %zu\">\n"
+            "    <all><ref to=\"e%zu\"/><vote k=\"2\"><ref to=\"s%zu\"/>"
+            "<ref to=\"t%zu\"/><safeguard id=\"x%zu\" p=\"0.2\"/></vote>"
+            "</all>\n  </block>\n"
+            "  <error id=\"u%zu\" p=\"0.1\"/>\n",
+            i, i, i % 9 + 1, i, i, i % 9 + 1, i, i, i, i % 5, 20 + i % 7,
+            i, i, i, i, i, i, i);
+        i++;
+    }
+    PUT("  <common-cause id=\"g\" beta=\"0.1\" members=\"s0 s1\"/>\n"
+        "  <dependence first=\"t0\" second=\"t1\" level=\"high\"/>\n"
+        "  <hazard id=\"h\" label=\"Harm\">\n    <any>\n");
+    for (size_t j = 0; j < i; j++)
+        PUT("      <ref to=\"b%zu\"/>\n", j);
+    PUT("    </any>\n  </hazard>\n"
+        "  <variant id=\"v\" label=\"More\">\n"
+        "    <set ref=\"s0\" p=\"0.01\"/>\n  </variant>\n"
+        "</safety-model>\n");
+#undef PUT
+    *len = n;
+    return b;
+}
+
+static void assert_same_model(const lw_model *a, const lw_model *b)
+{
+    assert_string_equal(a->id, b->id);
+    assert_string_equal(a->title, b->title);
+    assert_string_equal(a->description, b->description);
+    assert_true(a->per_year == b->per_year);
+    assert_int_equal(a->nnodes, b->nnodes);
+    for (size_t i = 0; i < a->nnodes; i++) {
+        const lw_node *x = &a->nodes[i], *y = &b->nodes[i];
+        assert_int_equal(x->kind, y->kind);
+        assert_true((x->id == NULL) == (y->id == NULL));
+        if (x->id)
+            assert_string_equal(x->id, y->id);
+        assert_true((x->label == NULL) == (y->label == NULL));
+        if (x->label)
+            assert_string_equal(x->label, y->label);
+        assert_int_equal(x->line, y->line);
+        assert_int_equal(x->k, y->k);
+        assert_int_equal(x->nin, y->nin);
+        for (size_t j = 0; j < x->nin; j++)
+            assert_int_equal(x->in[j], y->in[j]);
+        assert_int_equal(x->dist.kind, y->dist.kind);
+        assert_true(x->dist.p == y->dist.p && x->dist.ef == y->dist.ef &&
+                    x->dist.a == y->dist.a && x->dist.b == y->dist.b &&
+                    x->dist.count == y->dist.count &&
+                    x->dist.of == y->dist.of);
+    }
+    assert_int_equal(a->ngroups, b->ngroups);
+    for (size_t i = 0; i < a->ngroups; i++) {
+        assert_int_equal(a->groups[i].line, b->groups[i].line);
+        assert_int_equal(a->groups[i].nmembers, b->groups[i].nmembers);
+    }
+    assert_int_equal(a->ndeps, b->ndeps);
+    for (size_t i = 0; i < a->ndeps; i++)
+        assert_int_equal(a->deps[i].line, b->deps[i].line);
+    assert_int_equal(a->nvariants, b->nvariants);
+    for (size_t i = 0; i < a->nvariants; i++)
+        assert_int_equal(a->variants[i].line, b->variants[i].line);
+    assert_int_equal(a->nhazards, b->nhazards);
+    assert_int_equal(a->nwarnings, b->nwarnings);
+    for (size_t i = 0; i < a->nwarnings; i++)
+        assert_string_equal(a->warnings[i], b->warnings[i]);
+}
+
+static lw_model *load_with(const char *xml, size_t len, size_t stream_from)
+{
+    lw_load_limits lim = {0};
+    lim.stream_from = stream_from;
+    lw_error err = LW_ERROR_INIT;
+    lw_model *m = NULL;
+    lw_status st = lw_model_load_memory(xml, len, "big.xml", &lim, &m, &err);
+    if (st != LW_OK) {
+        dump(&err);
+        lw_error_clear(&err);
+        fail_msg("the big model did not load");
+    }
+    lw_error_clear(&err);
+    return m;
+}
+
+static void test_streamed_equals_tree(void **state)
+{
+    (void)state;
+    size_t len;
+    char *xml = big_model((size_t)3 << 20 >> 1, &len);   /* 1.5 MiB */
+    lw_model *tree = load_with(xml, len, SIZE_MAX);
+    lw_model *stream = load_with(xml, len, 0);           /* default 1 MiB */
+    assert_false(tree->streamed);
+    assert_true(stream->streamed);
+    assert_true(stream->nwarnings > 0);
+    assert_same_model(tree, stream);
+    /* the lines really are where the start tags begin: s0's tag starts on
+     * line 9 and ends on line 11 */
+    assert_int_equal(stream->nodes[lw_model_find_node(stream, "s0")].line,
+                     9);
+    lw_model_free(tree);
+    lw_model_free(stream);
+
+    /* one broken byte near the end: the stream gives up, the tree path
+     * reports, so the messages do not depend on the path */
+    char *p = strstr(xml + len - 400, "<variant");
+    assert_non_null(p);
+    p[1] = '!';
+    lw_load_limits lim = {0};
+    lw_error e1 = LW_ERROR_INIT, e2 = LW_ERROR_INIT;
+    lw_model *m = NULL;
+    lim.stream_from = SIZE_MAX;
+    assert_int_not_equal(lw_model_load_memory(xml, len, "big.xml", &lim, &m,
+                                              &e1), LW_OK);
+    lim.stream_from = 1;
+    assert_int_not_equal(lw_model_load_memory(xml, len, "big.xml", &lim, &m,
+                                              &e2), LW_OK);
+    assert_null(m);
+    assert_int_equal(e1.count, e2.count);
+    assert_true(e1.count > 0);
+    for (size_t i = 0; i < e1.count; i++) {
+        assert_int_equal(e1.items[i].line, e2.items[i].line);
+        assert_string_equal(e1.items[i].message, e2.items[i].message);
+    }
+    lw_error_clear(&e1);
+    lw_error_clear(&e2);
+    free(xml);
 }
 
 int main(void)
@@ -1252,6 +1410,14 @@ int main(void)
         cmocka_unit_test(test_inline_events_are_global),
         cmocka_unit_test(test_number_forms),
         cmocka_unit_test(test_load_file_missing),
+        cmocka_unit_test(test_streamed_equals_tree),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    /* every test twice: small models go through the tree path by default;
+     * then every model is first read as a stream, which must give the
+     * same models and, through its fallback, the same messages */
+    int rc = cmocka_run_group_tests_name("tree", tests, NULL, NULL);
+    static const lw_load_limits streamed = {.stream_from = 1};
+    tu_limits = &streamed;
+    rc |= cmocka_run_group_tests_name("streamed", tests, NULL, NULL);
+    return rc;
 }

@@ -11,12 +11,14 @@
 
 #include "testutil.h"
 
+const lw_load_limits *tu_limits = NULL;
+
 lw_model *tu_load(const char *xml)
 {
     lw_error err = LW_ERROR_INIT;
     lw_model *m = NULL;
-    lw_status st = lw_model_load_memory(xml, strlen(xml), "test.xml", NULL,
-                                        &m, &err);
+    lw_status st = lw_model_load_memory(xml, strlen(xml), "test.xml",
+                                        tu_limits, &m, &err);
     if (st != LW_OK) {
         for (size_t i = 0; i < err.count; i++)
             fprintf(stderr, "%s:%ld: %s\n", err.items[i].file,
@@ -31,8 +33,8 @@ lw_model *tu_load(const char *xml)
 lw_status tu_load_fail(const char *xml, lw_error *err)
 {
     lw_model *m = NULL;
-    lw_status st = lw_model_load_memory(xml, strlen(xml), "bad.xml", NULL,
-                                        &m, err);
+    lw_status st = lw_model_load_memory(xml, strlen(xml), "bad.xml",
+                                        tu_limits, &m, err);
     if (st == LW_OK) {
         lw_model_free(m);
         fail_msg("model loaded but should have failed");

@@ -13,6 +13,10 @@
 #include "layerwise/model.h"
 #include "layerwise/network.h"
 
+/* Limits for tu_load and tu_load_fail (NULL = the defaults); the loader
+ * tests run once as is and once with every model read as a stream. */
+extern const lw_load_limits *tu_limits;
+
 /* Load a model from a string; fails the test with the loader's messages
  * when it does not load. */
 lw_model *tu_load(const char *xml);
