@@ -61,6 +61,10 @@ void lw_prepared_free(lw_prepared *p);
 /* Free the BDD manager once only the frozen diagram is needed (it holds
  * every intermediate node of the build); p->builder becomes NULL. */
 void lw_prepared_drop_builder(lw_prepared *p);
+/* The hazard's minimal cut sets as a family (engine room), built from the
+ * network and, if that meets its limit, from the frozen BDD. */
+lw_status lw_prepared_cut_family(const lw_prepared *p, const lw_options *opt,
+                                 lw_cut_family **out, lw_error *err);
 
 /* ---- analyze -------------------------------------------------------- */
 

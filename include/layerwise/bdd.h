@@ -69,6 +69,18 @@ lw_bref lw_bdd_atleast(lw_bdd *b, uint32_t k, const lw_bref *in, size_t n);
 /* ZBDD (a manager made with lw_zdd_new): the sets of P that hold no set
  * of Q. */
 lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q);
+/* ZBDD: the union of P and Q; the family { p u q : p in P, q in Q }; the
+ * minimal sets of P (none holding another).  Like 'without', each counts
+ * its steps against a budget of 64 per allowed node. */
+lw_bref lw_zdd_union(lw_bdd *z, lw_bref P, lw_bref Q);
+lw_bref lw_zdd_product(lw_bdd *z, lw_bref P, lw_bref Q);
+lw_bref lw_zdd_minimal(lw_bdd *z, lw_bref P);
+/* The deepest level in any set of P (LW_LEVEL_TERMINAL for 0 and 1);
+ * whether P holds the empty set; record that P is known to be minimal
+ * (the caller's proof: lw_zdd_minimal then returns it as it is). */
+uint32_t lw_zdd_deepest(const lw_bdd *z, lw_bref P);
+bool lw_zdd_has_empty(const lw_bdd *z, lw_bref P);
+void lw_zdd_mark_minimal(lw_bdd *z, lw_bref P);
 /* Number of nodes reachable from f, terminals included. */
 size_t lw_bdd_size(const lw_bdd *b, lw_bref f);
 
@@ -110,6 +122,13 @@ typedef struct lw_diagram {
 lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
                             const uint32_t *level_var, lw_diagram **out,
                             lw_error *err);
+/* The same, but nodes within a level are numbered in the order of a
+ * depth-first walk from the root (hi first), so that the frozen copy
+ * depends only on the function, not on the order its nodes were made. */
+lw_status lw_diagram_freeze_canonical(const lw_bdd *b, lw_bref f,
+                                      uint32_t nlevels,
+                                      const uint32_t *level_var,
+                                      lw_diagram **out, lw_error *err);
 void lw_diagram_free(lw_diagram *d);
 
 /* Probability of the function when level l is true with probability
@@ -142,6 +161,18 @@ typedef struct lw_level_set {
 lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
                             size_t max_nodes, lw_cut_family **out,
                             lw_error *err);
+/* The same family built from the network instead of the BDD: bottom-up
+ * over the gates under 'root' with ZBDD union, product and minimisation.
+ * Its cost grows with the families of the gates, not with the BDD, and it
+ * needs only the network and the order (var_level: variable -> level), so
+ * it can run beside the BDD build.  For the same order it gives the same
+ * frozen family as lw_cut_family_new. */
+lw_status lw_cut_family_from_network(const lw_network *net, uint32_t root,
+                                     const uint32_t *var_level,
+                                     uint32_t nlevels,
+                                     const uint32_t *level_var,
+                                     const double *q, size_t max_nodes,
+                                     lw_cut_family **out, lw_error *err);
 void lw_cut_family_free(lw_cut_family *f);
 double lw_cut_family_count(const lw_cut_family *f);      /* all sets */
 double lw_cut_family_rare_event(const lw_cut_family *f); /* sum of P(set) */

@@ -56,6 +56,40 @@ static int cmp_importance(const void *a, const void *b)
     return strcmp(sort_net->vars[x->var].name, sort_net->vars[y->var].name);
 }
 
+/* The hazard's minimal cut sets: from the network first (its cost grows
+ * with the gates' families, usually far below the BDD's size), and from
+ * the BDD when that meets its node limit, which is set at the scale of
+ * the BDD so that a network whose gate families blow up (absorbed only at
+ * the top) wastes no more than the BDD way would cost.  Both give the
+ * same family. */
+lw_status lw_prepared_cut_family(const lw_prepared *p, const lw_options *opt,
+                                 lw_cut_family **out, lw_error *err)
+{
+    *out = NULL;
+    const lw_diagram *d = p->diagram;
+    size_t max_nodes = opt && opt->max_nodes ? opt->max_nodes : 20000000u;
+    size_t first = 2 * (size_t)d->n + ((size_t)1 << 20);
+    if (first > max_nodes)
+        first = max_nodes;
+    uint32_t *var_level = lw_malloc((p->net->nvars + 1) * sizeof *var_level);
+    if (!var_level)
+        return lw_error_oom(err);
+    memset(var_level, 0xff, (p->net->nvars + 1) * sizeof *var_level);
+    for (uint32_t l = 0; l < d->nlevels; l++)
+        var_level[d->level_var[l]] = l;
+    lw_error scratch = LW_ERROR_INIT;
+    lw_status st = lw_cut_family_from_network(
+        p->net, p->net->hazard_gate[p->hazard], var_level, d->nlevels,
+        d->level_var, p->q, first, out, &scratch);
+    lw_free(var_level);
+    lw_error_clear(&scratch);
+    if (st == LW_ELIMIT)
+        st = lw_cut_family_new(d, p->q, max_nodes, out, err);
+    else if (st != LW_OK)
+        st = lw_error_oom(err);
+    return st;
+}
+
 static lw_status cut_sets(const lw_prepared *p, const lw_options *opt,
                           lw_analysis *a, double *fv, lw_error *err)
 {
@@ -63,8 +97,7 @@ static lw_status cut_sets(const lw_prepared *p, const lw_options *opt,
     lw_level_set *ls = NULL;
     size_t nls = 0;
     bool more = false;
-    lw_status st = lw_cut_family_new(p->diagram, p->q, opt->max_nodes, &fam,
-                                     err);
+    lw_status st = lw_prepared_cut_family(p, opt, &fam, err);
     if (st != LW_OK)
         return st;
     a->cut_set_count = lw_cut_family_count(fam);

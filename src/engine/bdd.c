@@ -59,7 +59,8 @@ typedef struct centry {
     uint32_t f, g, op, r;
 } centry;
 
-enum { OP_AND = 1, OP_OR = 2, OP_NOT = 3, OP_WITHOUT = 4 };
+enum { OP_AND = 1, OP_OR = 2, OP_NOT = 3, OP_WITHOUT = 4, OP_UNION = 5,
+       OP_PRODUCT = 6, OP_MINIMAL = 7 };
 
 struct lw_bdd {
     int zdd;            /* reduction rule: 0 BDD, 1 ZBDD */
@@ -74,6 +75,9 @@ struct lw_bdd {
     size_t ncache;      /* power of two */
     lw_status status;
     uint64_t work;          /* 'without' steps taken, bounded like nodes */
+    uint32_t *deep;         /* ZBDD only: per node, the deepest level of
+                               any set below it, and DEEP_EMPTY when the
+                               family holds the empty set */
     struct frame *stack;    /* apply's explicit stack */
     size_t stack_cap;
 };
@@ -84,6 +88,10 @@ typedef struct frame {
     uint32_t hi;
     uint32_t state;
 } frame;
+
+#define DEEP_EMPTY 0x80000000u      /* the family holds the empty set */
+#define DEEP_MIN 0x40000000u        /* the family is known to be minimal */
+#define DEEP_LEVEL 0x3fffffffu
 
 static inline uint32_t hash3(uint32_t a, uint32_t b, uint32_t c)
 {
@@ -102,6 +110,10 @@ static lw_bdd *manager_new(uint32_t nlevels, size_t max_nodes, int zdd)
         return NULL;
     b->zdd = zdd;
     b->nlevels = nlevels;
+    if (zdd && nlevels > DEEP_LEVEL) {      /* levels share a word with flags */
+        lw_free(b);
+        return NULL;
+    }
     b->max_nodes = max_nodes ? max_nodes : 20000000u;
     if (b->max_nodes > UINT32_MAX - 2)
         b->max_nodes = UINT32_MAX - 2;
@@ -111,7 +123,9 @@ static lw_bdd *manager_new(uint32_t nlevels, size_t max_nodes, int zdd)
     b->nodes = lw_malloc(b->cap * sizeof *b->nodes);
     b->buckets = lw_calloc(b->nbuckets, sizeof *b->buckets);
     b->cache = lw_calloc(b->ncache, sizeof *b->cache);
-    if (!b->nodes || !b->buckets || !b->cache) {
+    if (zdd)
+        b->deep = lw_malloc(b->cap * sizeof *b->deep);
+    if (!b->nodes || !b->buckets || !b->cache || (zdd && !b->deep)) {
         lw_bdd_free(b);
         return NULL;
     }
@@ -119,6 +133,10 @@ static lw_bdd *manager_new(uint32_t nlevels, size_t max_nodes, int zdd)
         b->nodes[t].level = LW_LEVEL_TERMINAL;
         b->nodes[t].hi = b->nodes[t].lo = (uint32_t)t;
         b->nodes[t].next = 0;
+    }
+    if (zdd) {
+        b->deep[0] = DEEP_MIN;              /* the empty family */
+        b->deep[1] = DEEP_EMPTY | DEEP_MIN; /* { {} } */
     }
     b->count = 2;
     return b;
@@ -142,6 +160,7 @@ void lw_bdd_free(lw_bdd *b)
     lw_free(b->buckets);
     lw_free(b->cache);
     lw_free(b->stack);
+    lw_free(b->deep);
     lw_free(b);
 }
 
@@ -216,6 +235,14 @@ lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo)
             return LW_BREF_INVALID;
         }
         b->nodes = nn;
+        if (b->zdd) {
+            uint32_t *dp = lw_realloc(b->deep, ncap * sizeof *dp);
+            if (!dp) {
+                b->status = LW_ENOMEM;
+                return LW_BREF_INVALID;
+            }
+            b->deep = dp;
+        }
         b->cap = ncap;
     }
     uint32_t i = (uint32_t)b->count++;
@@ -225,6 +252,12 @@ lw_bref lw_bdd_mk(lw_bdd *b, uint32_t level, lw_bref hi, lw_bref lo)
     n->lo = lo;
     n->next = b->buckets[h];
     b->buckets[h] = i;
+    if (b->zdd) {
+        uint32_t dh = b->deep[hi] & DEEP_LEVEL, dl = b->deep[lo] & DEEP_LEVEL;
+        uint32_t d = level > dh ? level : dh;
+        d = d > dl ? d : dl;
+        b->deep[i] = d | (b->deep[lo] & DEEP_EMPTY);
+    }
     if (b->count > b->nbuckets) {
         grow_buckets(b);
         if (b->ncache < b->count / 4)
@@ -419,9 +452,14 @@ lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q)
     }
     if (P == 0) return 0;
     if (Q == 0) return P;
-    if (Q == 1) return 0;           /* the empty set is inside every set */
+    if (z->deep[Q] & DEEP_EMPTY)
+        return 0;                   /* the empty set is inside every set */
     if (P == 1) return 1;           /* {} holds no non-empty set */
     if (P == Q) return 0;
+    /* every element of P's sets lies above Q's top level: no set of Q
+     * (all non-empty, all below that level) fits inside one of P */
+    if ((z->deep[P] & DEEP_LEVEL) < z->nodes[Q].level)
+        return P;
     centry *c = &z->cache[hash3(OP_WITHOUT, P, Q) & (uint32_t)(z->ncache - 1)];
     if (c->op == OP_WITHOUT && c->f == P && c->g == Q)
         return c->r;
@@ -451,6 +489,138 @@ lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q)
         c->r = r;
     }
     return r;
+}
+
+/* The step budget shared by the ZBDD operations: their time is not
+ * bounded by the nodes they make (64 steps per allowed node). */
+static inline int zstep(lw_bdd *z, lw_bref P, lw_bref Q)
+{
+    if (P == LW_BREF_INVALID || Q == LW_BREF_INVALID || z->status != LW_OK)
+        return 0;
+    if (++z->work > 64 * (uint64_t)z->max_nodes) {
+        z->status = LW_ELIMIT;
+        return 0;
+    }
+    return 1;
+}
+
+static inline lw_bref zcache_get(const lw_bdd *z, uint32_t op, lw_bref P,
+                                 lw_bref Q)
+{
+    const centry *c = &z->cache[hash3(op, P, Q) & (uint32_t)(z->ncache - 1)];
+    return c->op == op && c->f == P && c->g == Q ? c->r : LW_BREF_INVALID;
+}
+
+static inline void zcache_put(lw_bdd *z, uint32_t op, lw_bref P, lw_bref Q,
+                              lw_bref r)
+{
+    if (r == LW_BREF_INVALID)
+        return;
+    centry *c = &z->cache[hash3(op, P, Q) & (uint32_t)(z->ncache - 1)];
+    c->f = P;
+    c->g = Q;
+    c->op = op;
+    c->r = r;
+}
+
+/* Union of two families (recursion on the C stack, like 'without'). */
+lw_bref lw_zdd_union(lw_bdd *z, lw_bref P, lw_bref Q)
+{
+    if (!zstep(z, P, Q))
+        return LW_BREF_INVALID;
+    if (P == 0) return Q;
+    if (Q == 0 || P == Q) return P;
+    if (P > Q) {
+        lw_bref t = P;
+        P = Q;
+        Q = t;
+    }
+    lw_bref r = zcache_get(z, OP_UNION, P, Q);
+    if (r != LW_BREF_INVALID)
+        return r;
+    node p = z->nodes[P], q = z->nodes[Q];  /* copies: the arena moves */
+    if (p.level < q.level) {
+        r = lw_bdd_mk(z, p.level, p.hi, lw_zdd_union(z, p.lo, Q));
+    } else if (p.level > q.level) {
+        r = lw_bdd_mk(z, q.level, q.hi, lw_zdd_union(z, P, q.lo));
+    } else {
+        lw_bref h = lw_zdd_union(z, p.hi, q.hi);
+        r = lw_bdd_mk(z, p.level, h, lw_zdd_union(z, p.lo, q.lo));
+    }
+    zcache_put(z, OP_UNION, P, Q, r);
+    return r;
+}
+
+/* { p u q : p in P, q in Q }. */
+lw_bref lw_zdd_product(lw_bdd *z, lw_bref P, lw_bref Q)
+{
+    if (!zstep(z, P, Q))
+        return LW_BREF_INVALID;
+    if (P == 0 || Q == 0) return 0;
+    if (P == 1) return Q;
+    if (Q == 1) return P;
+    if (P > Q) {
+        lw_bref t = P;
+        P = Q;
+        Q = t;
+    }
+    lw_bref r = zcache_get(z, OP_PRODUCT, P, Q);
+    if (r != LW_BREF_INVALID)
+        return r;
+    node p = z->nodes[P], q = z->nodes[Q];
+    if (p.level < q.level) {
+        lw_bref h = lw_zdd_product(z, p.hi, Q);
+        r = lw_bdd_mk(z, p.level, h, lw_zdd_product(z, p.lo, Q));
+    } else if (p.level > q.level) {
+        lw_bref h = lw_zdd_product(z, P, q.hi);
+        r = lw_bdd_mk(z, q.level, h, lw_zdd_product(z, P, q.lo));
+    } else {
+        lw_bref a = lw_zdd_product(z, p.hi, q.hi);
+        lw_bref b = lw_zdd_product(z, p.hi, q.lo);
+        lw_bref c = lw_zdd_product(z, p.lo, q.hi);
+        lw_bref h = lw_zdd_union(z, lw_zdd_union(z, a, b), c);
+        r = lw_bdd_mk(z, p.level, h, lw_zdd_product(z, p.lo, q.lo));
+    }
+    zcache_put(z, OP_PRODUCT, P, Q, r);
+    return r;
+}
+
+/* The minimal sets of P: for P = x.H + L (L's sets lack x),
+ * min(P) = x.(min(H) without min(L)) + min(L).  Results are flagged, so
+ * a family already made minimal costs nothing the next time. */
+lw_bref lw_zdd_minimal(lw_bdd *z, lw_bref P)
+{
+    if (!zstep(z, P, 0))
+        return LW_BREF_INVALID;
+    if (z->deep[P] & DEEP_MIN)
+        return P;
+    lw_bref r = zcache_get(z, OP_MINIMAL, P, 0);
+    if (r != LW_BREF_INVALID)
+        return r;
+    node p = z->nodes[P];
+    lw_bref L = lw_zdd_minimal(z, p.lo);
+    lw_bref H = lw_zdd_without(z, lw_zdd_minimal(z, p.hi), L);
+    r = lw_bdd_mk(z, p.level, H, L);
+    if (r != LW_BREF_INVALID)
+        z->deep[r] |= DEEP_MIN;
+    zcache_put(z, OP_MINIMAL, P, 0, r);
+    return r;
+}
+
+uint32_t lw_zdd_deepest(const lw_bdd *z, lw_bref P)
+{
+    return P <= 1 ? LW_LEVEL_TERMINAL : (z->deep[P] & DEEP_LEVEL);
+}
+
+bool lw_zdd_has_empty(const lw_bdd *z, lw_bref P)
+{
+    return (z->deep[P] & DEEP_EMPTY) != 0;
+}
+
+void lw_zdd_mark_minimal(lw_bdd *z, lw_bref P)
+{
+    if (P != LW_BREF_INVALID)
+        z->deep[P] |= DEEP_MIN;
 }
 
 size_t lw_bdd_size(const lw_bdd *b, lw_bref f)
@@ -484,9 +654,28 @@ size_t lw_bdd_size(const lw_bdd *b, lw_bref f)
 
 /* ---- frozen diagrams ---------------------------------------------- */
 
+static lw_status freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
+                        const uint32_t *level_var, int canonical,
+                        lw_diagram **out, lw_error *err);
+
 lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
                             const uint32_t *level_var, lw_diagram **out,
                             lw_error *err)
+{
+    return freeze(b, f, nlevels, level_var, 0, out, err);
+}
+
+lw_status lw_diagram_freeze_canonical(const lw_bdd *b, lw_bref f,
+                                      uint32_t nlevels,
+                                      const uint32_t *level_var,
+                                      lw_diagram **out, lw_error *err)
+{
+    return freeze(b, f, nlevels, level_var, 1, out, err);
+}
+
+static lw_status freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
+                        const uint32_t *level_var, int canonical,
+                        lw_diagram **out, lw_error *err)
 {
     *out = NULL;
     size_t span = f > 1 ? (size_t)f + 1 : 2;
@@ -539,9 +728,32 @@ lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
             start[l] = pos;
             pos += c;
         }
-        for (size_t i = 2; i <= f; i++)
-            if (map[i] != UINT32_MAX)
-                map[i] = start[b->nodes[i].level]++;
+        if (!canonical) {
+            for (size_t i = 2; i <= f; i++)
+                if (map[i] != UINT32_MAX)
+                    map[i] = start[b->nodes[i].level]++;
+        } else {
+            /* within a level, the order of a depth-first walk from the
+             * root, hi first: it depends on the function only */
+            uint32_t *stack = lw_malloc(n * sizeof *stack);
+            if (!stack) {
+                lw_free(start);
+                goto oom;
+            }
+            size_t sp = 0;
+            stack[sp++] = f;
+            map[f] = start[b->nodes[f].level]++;
+            while (sp) {
+                const node *x = &b->nodes[stack[--sp]];
+                lw_bref c[2] = {x->lo, x->hi};  /* hi is popped first */
+                for (int k = 0; k < 2; k++)
+                    if (c[k] > 1 && map[c[k]] == 0) {
+                        map[c[k]] = start[b->nodes[c[k]].level]++;
+                        stack[sp++] = c[k];
+                    }
+            }
+            lw_free(stack);
+        }
         lw_free(start);
         for (size_t i = 2; i <= f; i++) {
             if (map[i] == UINT32_MAX)

@@ -41,48 +41,28 @@ struct lw_cut_family {
     double *best;           /* most probable completion below each node */
 };
 
-lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
-                            size_t max_nodes, lw_cut_family **out,
-                            lw_error *err)
+static lw_status family_limit(lw_cut_family *f, lw_error *err)
 {
-    *out = NULL;
-    lw_cut_family *f = lw_calloc(1, sizeof *f);
-    uint32_t *memo = lw_malloc(d->n * sizeof *memo);  /* BDD node -> ZBDD */
-    if (!f || !memo)
-        goto oom;
-    f->nlevels = d->nlevels;
-    f->q = lw_malloc((d->nlevels + 1) * sizeof *f->q);
-    f->z = lw_zdd_new(d->nlevels, max_nodes);
-    if (!f->q || !f->z)
-        goto oom;
-    memcpy(f->q, q, d->nlevels * sizeof *q);
-    memo[0] = 0;
-    memo[1] = 1;
-    /* nodes are in topological order: children first */
-    for (uint32_t i = 2; i < d->n; i++) {
-        uint32_t L = memo[d->lo[i]];
-        uint32_t H = lw_zdd_without(f->z, memo[d->hi[i]], L);
-        memo[i] = lw_bdd_mk(f->z, d->level[i], H, L);
-        if (memo[i] == LW_BREF_INVALID)
-            break;
-    }
-    uint32_t root = memo[d->root];
-    if (lw_bdd_status(f->z) == LW_ELIMIT) {
-        lw_error_set(err, LW_ELIMIT, NULL, 0, "the cut-set family reached "
-                     "the limit of %zu nodes (--max-nodes; the work to build "
-                     "it is bounded by 64 steps a node); raise it, or "
-                     "analyse a smaller model or a narrower vote",
-                     lw_bdd_max_nodes(f->z));
-        lw_free(memo);
-        lw_cut_family_free(f);
-        return LW_ELIMIT;
-    }
+    lw_error_set(err, LW_ELIMIT, NULL, 0, "the cut-set family reached the "
+                 "limit of %zu nodes (--max-nodes; the work to build it is "
+                 "bounded by 64 steps a node); raise it, or analyse a "
+                 "smaller model or a narrower vote", lw_bdd_max_nodes(f->z));
+    lw_cut_family_free(f);
+    return LW_ELIMIT;
+}
+
+/* The manager holds the family 'root': freeze it (numbered canonically,
+ * so both constructions give the same frozen family) and fill the
+ * per-node passes. */
+static lw_status family_finish(lw_cut_family *f, lw_bref root,
+                               const uint32_t *level_var, lw_error *err)
+{
+    if (lw_bdd_status(f->z) == LW_ELIMIT)
+        return family_limit(f, err);
     if (root == LW_BREF_INVALID)
         goto oom;
-    lw_free(memo);
-    memo = NULL;
-    if (lw_diagram_freeze(f->z, root, d->nlevels, d->level_var, &f->fam,
-                          err) != LW_OK) {
+    if (lw_diagram_freeze_canonical(f->z, root, f->nlevels, level_var,
+                                    &f->fam, err) != LW_OK) {
         lw_cut_family_free(f);
         return LW_ENOMEM;
     }
@@ -102,10 +82,232 @@ lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
         double bh = p * f->best[h];
         f->best[i] = bh > f->best[l] ? bh : f->best[l];
     }
-    *out = f;
     return LW_OK;
 oom:
+    lw_cut_family_free(f);
+    return lw_error_oom(err);
+}
+
+static lw_cut_family *family_alloc(uint32_t nlevels, const double *q,
+                                   size_t max_nodes)
+{
+    lw_cut_family *f = lw_calloc(1, sizeof *f);
+    if (!f)
+        return NULL;
+    f->nlevels = nlevels;
+    f->q = lw_malloc((nlevels + 1) * sizeof *f->q);
+    f->z = lw_zdd_new(nlevels, max_nodes);
+    if (!f->q || !f->z) {
+        lw_cut_family_free(f);
+        return NULL;
+    }
+    if (nlevels)
+        memcpy(f->q, q, nlevels * sizeof *q);
+    return f;
+}
+
+lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
+                            size_t max_nodes, lw_cut_family **out,
+                            lw_error *err)
+{
+    *out = NULL;
+    lw_cut_family *f = family_alloc(d->nlevels, q, max_nodes);
+    uint32_t *memo = lw_malloc(d->n * sizeof *memo);  /* BDD node -> ZBDD */
+    if (!f || !memo) {
+        lw_free(memo);
+        lw_cut_family_free(f);
+        return lw_error_oom(err);
+    }
+    memo[0] = 0;
+    memo[1] = 1;
+    /* nodes are in topological order: children first */
+    for (uint32_t i = 2; i < d->n; i++) {
+        uint32_t L = memo[d->lo[i]];
+        uint32_t H = lw_zdd_without(f->z, memo[d->hi[i]], L);
+        memo[i] = lw_bdd_mk(f->z, d->level[i], H, L);
+        if (memo[i] == LW_BREF_INVALID)
+            break;
+    }
+    lw_bref root = memo[d->root];
     lw_free(memo);
+    lw_status st = family_finish(f, root, d->level_var, err);
+    if (st == LW_OK)
+        *out = f;
+    return st;
+}
+
+/* Insertion-sort families by the level of their top node, deepest first
+ * (see the builder: combining a higher operand with a lower accumulated
+ * one only walks the higher). */
+static void sort_deepest_first(const lw_bdd *z, lw_bref *r, uint32_t n)
+{
+    for (uint32_t i = 1; i < n; i++) {
+        lw_bref x = r[i];
+        uint32_t lx = lw_bdd_level(z, x);
+        uint32_t j = i;
+        while (j > 0 && lw_bdd_level(z, r[j - 1]) < lx) {
+            r[j] = r[j - 1];
+            j--;
+        }
+        r[j] = x;
+    }
+}
+
+/* Do the inputs (sorted deepest first) use levels in ranges that do not
+ * overlap, and lack the empty set?  Then unions and products of them are
+ * minimal without a check: no set of one input can hold a set of
+ * another, since every set is non-empty and drawn from its own range. */
+static int disjoint_inputs(const lw_bdd *z, const lw_bref *ins, uint32_t n)
+{
+    uint32_t above = LW_LEVEL_TERMINAL;     /* top of the inputs so far */
+    for (uint32_t i = 0; i < n; i++) {
+        if (ins[i] == 0)
+            continue;                       /* the empty family: no sets */
+        if (lw_zdd_has_empty(z, ins[i]))
+            return 0;
+        if (lw_zdd_deepest(z, ins[i]) >= above)
+            return 0;
+        above = lw_bdd_level(z, ins[i]);
+    }
+    return 1;
+}
+
+/* The minimal cut sets of one gate from those of its inputs (each
+ * minimal). */
+static lw_bref gate_family(lw_bdd *z, const lw_gate *g, lw_bref *ins,
+                           const uint32_t *var_level, lw_bref *row)
+{
+    switch (g->kind) {
+    case LW_GATE_FALSE: return 0;
+    case LW_GATE_TRUE: return 1;
+    case LW_GATE_VAR:
+        return lw_bdd_mk(z, var_level[g->var], 1, 0);
+    case LW_GATE_AND:
+    case LW_GATE_OR: {
+        sort_deepest_first(z, ins, g->nin);
+        int dis = disjoint_inputs(z, ins, g->nin);
+        lw_bref acc = g->kind == LW_GATE_AND ? 1 : 0;
+        for (uint32_t i = 0; i < g->nin && acc != LW_BREF_INVALID; i++) {
+            acc = g->kind == LW_GATE_AND ? lw_zdd_product(z, ins[i], acc)
+                                         : lw_zdd_union(z, ins[i], acc);
+            if (!dis)
+                acc = lw_zdd_minimal(z, acc);
+        }
+        if (dis)
+            lw_zdd_mark_minimal(z, acc);
+        return acc;
+    }
+    case LW_GATE_VOTE: {
+        /* row[j] = at least j of ins[i..n-1], as in lw_bdd_atleast */
+        uint32_t k = g->k, n = g->nin;
+        if (k == 0)
+            return 1;
+        if (k > n)
+            return 0;
+        /* inputs sorted deepest first work like the BDD's order: each
+         * step only walks the new input (at least j of n does not depend
+         * on the inputs' order) */
+        sort_deepest_first(z, ins, n);
+        int dis = disjoint_inputs(z, ins, n);
+        row[0] = 1;
+        for (uint32_t j = 1; j <= k; j++)
+            row[j] = 0;
+        for (uint32_t i = 0; i < n; i++) {
+            uint32_t top = i + 1 < k ? i + 1 : k;
+            uint32_t need_lo = k > n - 1 - i ? k - (n - 1 - i) : 1;
+            for (uint32_t j = top; j >= 1 && j >= need_lo; j--) {
+                lw_bref t = lw_zdd_product(z, ins[i], row[j - 1]);
+                row[j] = lw_zdd_union(z, t, row[j]);
+                if (!dis)
+                    row[j] = lw_zdd_minimal(z, row[j]);
+                if (row[j] == LW_BREF_INVALID)
+                    return LW_BREF_INVALID;
+            }
+        }
+        if (dis)
+            lw_zdd_mark_minimal(z, row[k]);
+        return row[k];
+    }
+    }
+    return LW_BREF_INVALID;
+}
+
+lw_status lw_cut_family_from_network(const lw_network *net, uint32_t root,
+                                     const uint32_t *var_level,
+                                     uint32_t nlevels,
+                                     const uint32_t *level_var,
+                                     const double *q, size_t max_nodes,
+                                     lw_cut_family **out, lw_error *err)
+{
+    *out = NULL;
+    size_t ng = net->ngates + 1;
+    lw_cut_family *f = family_alloc(nlevels, q, max_nodes);
+    lw_bref *memo = lw_malloc(ng * sizeof *memo);
+    uint32_t *stack = lw_malloc(ng * sizeof *stack);
+    uint32_t *pos = lw_malloc(ng * sizeof *pos);
+    lw_bref *ins = NULL, *row = NULL;
+    size_t cap_ins = 0, cap_row = 0;
+    lw_status st = LW_OK;
+    if (!f || !memo || !stack || !pos)
+        goto oom;
+    for (size_t i = 0; i < ng; i++)
+        memo[i] = LW_BREF_INVALID;
+    /* post-order over the gates under 'root', each once */
+    size_t sp = 0;
+    stack[sp] = root;
+    pos[sp] = 0;
+    sp++;
+    lw_bref r = LW_BREF_INVALID;
+    while (sp) {
+        uint32_t g = stack[sp - 1];
+        const lw_gate *gt = &net->gates[g];
+        if (pos[sp - 1] < gt->nin) {
+            uint32_t c = net->inputs[gt->first + pos[sp - 1]++];
+            if (memo[c] == LW_BREF_INVALID) {
+                stack[sp] = c;
+                pos[sp] = 0;
+                sp++;
+            }
+            continue;
+        }
+        sp--;
+        if (memo[g] != LW_BREF_INVALID)
+            continue;       /* reached twice before it was done */
+        lw_bref *ni = lw_grow(ins, &cap_ins, gt->nin + 1, sizeof *ni);
+        lw_bref *nr = lw_grow(row, &cap_row, gt->k + 2, sizeof *nr);
+        if (ni)
+            ins = ni;
+        if (nr)
+            row = nr;
+        if (!ni || !nr)
+            goto oom;
+        for (uint32_t i = 0; i < gt->nin; i++)
+            ins[i] = memo[net->inputs[gt->first + i]];
+        r = gate_family(f->z, gt, ins, var_level, row);
+        if (r == LW_BREF_INVALID)
+            break;
+        memo[g] = r;
+    }
+    r = memo[root];
+    lw_free(memo);
+    lw_free(stack);
+    lw_free(pos);
+    lw_free(ins);
+    lw_free(row);
+    if (r == LW_BREF_INVALID && lw_bdd_status(f->z) == LW_OK) {
+        lw_cut_family_free(f);
+        return lw_error_oom(err);
+    }
+    st = family_finish(f, r, level_var, err);
+    if (st == LW_OK)
+        *out = f;
+    return st;
+oom:
+    lw_free(memo);
+    lw_free(stack);
+    lw_free(pos);
+    lw_free(ins);
+    lw_free(row);
     lw_cut_family_free(f);
     return lw_error_oom(err);
 }
@@ -226,24 +428,46 @@ lw_status lw_cut_family_upper_bound(const lw_cut_family *f, double max_sets,
 /* ---- best-first top N ------------------------------------------------- */
 
 typedef struct state {
-    uint32_t node;
+    uint32_t node;          /* family node still to complete */
     uint32_t order;
     uint32_t parent;        /* state index, UINT32_MAX at the root */
     uint32_t level;         /* level taken on the hi edge into this state,
                                UINT32_MAX when it came by a lo edge */
     double prob;            /* product so far */
+    double key;             /* prob x best completion, to 40 bits */
 } state;
+
+/* The search pops the state whose best completion is most probable.
+ * Bounds are compared to 40 bits (about 1e-12 relative): equal sets
+ * (a vote over events of one probability has billions) and sets equal
+ * but for rounding then tie, and a tie goes to the state nearest its end
+ * (the deepest node), then the newest, so that a search among equals
+ * runs straight down to a set instead of widening over all of them. */
+static double bound_key(double x)
+{
+    uint64_t u;
+    memcpy(&u, &x, sizeof u);
+    u &= ~(uint64_t)0xfff;
+    memcpy(&x, &u, sizeof x);
+    return x;
+}
 
 typedef struct heap {
     uint32_t *a;            /* state indices */
     size_t n, cap;
     const state *s;
-    const double *best;
+    const uint32_t *level;  /* family node -> level (terminals last) */
 } heap;
 
-static inline double prio(const heap *h, uint32_t i)
+static inline int before(const heap *h, uint32_t x, uint32_t y)
 {
-    return h->s[i].prob * h->best[h->s[i].node];
+    const state *a = &h->s[x], *b = &h->s[y];
+    if (a->key != b->key)
+        return a->key > b->key;
+    uint32_t la = h->level[a->node], lb = h->level[b->node];
+    if (la != lb)
+        return la > lb;
+    return x > y;
 }
 
 static int heap_push(heap *h, uint32_t x)
@@ -255,7 +479,7 @@ static int heap_push(heap *h, uint32_t x)
     size_t i = h->n++;
     while (i > 0) {
         size_t p = (i - 1) / 2;
-        if (prio(h, a[p]) >= prio(h, x))
+        if (!before(h, x, a[p]))
             break;
         a[i] = a[p];
         i = p;
@@ -272,12 +496,12 @@ static uint32_t heap_pop(heap *h)
     size_t i = 0;
     for (;;) {
         size_t l = 2 * i + 1, r = l + 1, m = i;
-        double pm = prio(h, x);
-        if (l < h->n && prio(h, a[l]) > pm) {
+        uint32_t best = x;
+        if (l < h->n && before(h, a[l], best)) {
             m = l;
-            pm = prio(h, a[l]);
+            best = a[l];
         }
-        if (r < h->n && prio(h, a[r]) > pm)
+        if (r < h->n && before(h, a[r], best))
             m = r;
         if (m == i)
             break;
@@ -309,13 +533,14 @@ lw_status lw_cut_family_top(const lw_cut_family *f, size_t top,
     *more = false;
     state *st = NULL;
     size_t nst = 0, cap_st = 0;
-    heap h = {NULL, 0, 0, NULL, f->best};
+    heap h = {NULL, 0, 0, NULL, z->level};
     lw_level_set *sets = NULL;
     size_t ns = 0, cap_sets = 0;
     st = lw_grow(st, &cap_st, 1, sizeof *st);
     if (!st)
         goto oom;
-    st[0] = (state){z->root, 0, UINT32_MAX, UINT32_MAX, 1.0};
+    st[0] = (state){z->root, 0, UINT32_MAX, UINT32_MAX, 1.0,
+                    bound_key(f->best[z->root])};
     nst = 1;
     h.s = st;
     if (z->root != 0 && !heap_push(&h, 0))
@@ -357,13 +582,15 @@ lw_status lw_cut_family_top(const lw_cut_family *f, size_t top,
         uint32_t lv = z->level[cur.node];
         uint32_t lo = z->lo[cur.node], hi = z->hi[cur.node];
         if (lo != 0) {
-            st[nst] = (state){lo, cur.order, si, UINT32_MAX, cur.prob};
+            st[nst] = (state){lo, cur.order, si, UINT32_MAX, cur.prob,
+                              bound_key(cur.prob * f->best[lo])};
             if (!heap_push(&h, (uint32_t)nst++))
                 goto oom;
         }
         if (!max_order || cur.order + 1 <= max_order) {
-            st[nst] = (state){hi, cur.order + 1, si, lv,
-                              cur.prob * f->q[lv]};
+            double pr = cur.prob * f->q[lv];
+            st[nst] = (state){hi, cur.order + 1, si, lv, pr,
+                              bound_key(pr * f->best[hi])};
             if (!heap_push(&h, (uint32_t)nst++))
                 goto oom;
         } else {

@@ -82,6 +82,14 @@ lines = [head.rstrip(), '<safety-model format="1" id="wide">',
 lines += ['<safeguard id="s%d" p="0.01"/>' % i for i in range(k)]
 lines += ['</vote></hazard>', '</safety-model>']
 w('gen-wide-vote.xml', '\n'.join(lines) + '\n')
+# 100 of 200: every cut set equally likely (9.05e58 of them), the case
+# where a best-first search must not widen over equal candidates
+k = 200
+lines = [head.rstrip(), '<safety-model format="1" id="wide200">',
+         '<hazard id="h"><vote k="%d">' % (k // 2)]
+lines += ['<safeguard id="s%d" p="0.01"/>' % i for i in range(k)]
+lines += ['</vote></hazard>', '</safety-model>']
+w('gen-vote-100-of-200.xml', '\n'.join(lines) + '\n')
 # logs: a 64 KiB note (fine) and a 64 KiB id (echoed, shortened)
 H = 'date,error,missed,caught_by,note\n'
 w('gen-long-log-note.csv', H + '2026-03-02,wrong-tube,lab-history,nurse-1,"'

@@ -403,6 +403,7 @@ static void run_seed(uint64_t seed)
     assert_close(p->probability, ref, 1e-9);
     /* one canonical graph: the same number of internal nodes */
     assert_int_equal((int)p->diagram->n - 2, bdd_nodecount(top));
+    tu_same_family_both_ways(p, "buddy network");
 
     /* Birnbaum of a sample of events against BuDDy cofactors */
     double *bir = malloc((p->nlevels + 1) * sizeof *bir);

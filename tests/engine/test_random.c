@@ -828,6 +828,9 @@ static void check_hazard(const lw_model *m, const gen *g, size_t h,
                     1e-12, 0, seed);
     }
     check_close("rare_event", "hazard", a->rare_event, rea, 1e-12, 0, seed);
+    char what[64];
+    snprintf(what, sizeof what, "model %llu", (unsigned long long)seed);
+    tu_same_family_both_ways(p, what);
     check_close("min_cut_upper_bound", "hazard", a->min_cut_upper_bound,
                 mcub, 1e-12, 0, seed);
     check_close("covered", "hazard", a->covered, rea, 1e-12, 0, seed);

@@ -141,3 +141,64 @@ int tu_close(double a, double b, double tol)
         return 1;
     return fabs(a - b) <= tol * s;
 }
+
+/* Every set of a family, in the order the family lists them. */
+typedef struct set_text {
+    char *s;
+    size_t n, cap;
+} set_text;
+
+static int add_set(void *ud, const uint32_t *levels, size_t order,
+                   double probability)
+{
+    set_text *t = ud;
+    char buf[64];
+    for (size_t i = 0; i <= order; i++) {
+        int w = i < order ? snprintf(buf, sizeof buf, "%u,", levels[i])
+                          : snprintf(buf, sizeof buf, "%a;", probability);
+        if (t->n + (size_t)w + 1 > t->cap) {
+            t->cap = 2 * (t->n + (size_t)w + 1);
+            t->s = realloc(t->s, t->cap);
+            assert_non_null(t->s);
+        }
+        memcpy(t->s + t->n, buf, (size_t)w + 1);
+        t->n += (size_t)w;
+    }
+    return 0;
+}
+
+/* The family built from the network (what analyze uses) and the one built
+ * from the BDD are the same family, frozen the same way: the same count,
+ * the same sets in the same order, bit for bit the same sums. */
+void tu_same_family_both_ways(const lw_prepared *p, const char *what)
+{
+    const lw_diagram *d = p->diagram;
+    lw_error err = LW_ERROR_INIT;
+    uint32_t *vl = malloc((p->net->nvars + 1) * sizeof *vl);
+    assert_non_null(vl);
+    memset(vl, 0xff, (p->net->nvars + 1) * sizeof *vl);
+    for (uint32_t l = 0; l < d->nlevels; l++)
+        vl[d->level_var[l]] = l;
+    lw_cut_family *fb = NULL, *fn = NULL;
+    assert_int_equal(lw_cut_family_new(d, p->q, 0, &fb, &err), LW_OK);
+    assert_int_equal(lw_cut_family_from_network(
+                         p->net, p->net->hazard_gate[p->hazard], vl,
+                         d->nlevels, d->level_var, p->q, 0, &fn, &err),
+                     LW_OK);
+    set_text tb = {0}, tn = {0};
+    assert_int_equal(lw_cut_family_each(fb, add_set, &tb, &err), LW_OK);
+    assert_int_equal(lw_cut_family_each(fn, add_set, &tn, &err), LW_OK);
+    if (lw_cut_family_nodes(fb) != lw_cut_family_nodes(fn) ||
+        lw_cut_family_count(fb) != lw_cut_family_count(fn) ||
+        lw_cut_family_rare_event(fb) != lw_cut_family_rare_event(fn) ||
+        ((tb.s || tn.s) && (!tb.s || !tn.s || strcmp(tb.s, tn.s) != 0)))
+        fail_msg("%s: the family from the network differs from the family "
+                 "from the BDD:\n  %.2000s\n  %.2000s", what,
+                 tn.s ? tn.s : "", tb.s ? tb.s : "");
+    free(tb.s);
+    free(tn.s);
+    free(vl);
+    lw_cut_family_free(fb);
+    lw_cut_family_free(fn);
+}
+

@@ -34,6 +34,11 @@ int tu_eval(const lw_network *net, uint32_t gate, uint64_t x);
 /* The exact probability of a hazard via the library. */
 double tu_prob(const lw_model *m, size_t variant, size_t hazard);
 
+/* The hazard's cut-set family built from the network and from the BDD
+ * must be the same, frozen the same way (count, sets in order, sums bit
+ * for bit); fails the test naming 'what' otherwise. */
+void tu_same_family_both_ways(const lw_prepared *p, const char *what);
+
 /* A small deterministic PRNG for generated tests. */
 uint64_t tu_rand(uint64_t *state);
 double tu_uniform(uint64_t *state);
