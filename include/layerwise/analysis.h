@@ -45,8 +45,11 @@ typedef struct lw_prepared {
     size_t variant;             /* LW_NONE = baseline */
     size_t hazard;              /* index into model->hazards */
     lw_network *net;            /* owned */
-    lw_builder *builder;        /* owned; its BDD holds the hazard */
-    lw_bref root;               /* the hazard in the builder's BDD */
+    lw_builder *builder;        /* owned: the order, and a manager for
+                                   questions beyond the hazard */
+    lw_bref root;               /* the hazard in the builder's manager once
+                                   lw_prepared_root made it, else
+                                   LW_BREF_INVALID */
     lw_diagram *diagram;        /* owned frozen copy of the hazard */
     uint32_t nlevels;           /* levels of the order (all events) */
     uint32_t hazard_levels;     /* levels the hazard's structure reaches */
@@ -58,9 +61,12 @@ typedef struct lw_prepared {
 lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
                      const lw_options *opt, lw_prepared **out, lw_error *err);
 void lw_prepared_free(lw_prepared *p);
-/* Free the BDD manager once only the frozen diagram is needed (it holds
- * every intermediate node of the build); p->builder becomes NULL. */
+/* Free the builder once only the frozen diagram is needed; p->builder
+ * becomes NULL. */
 void lw_prepared_drop_builder(lw_prepared *p);
+/* The hazard in the builder's manager (built on first use; the frozen
+ * diagram is made without it). */
+lw_status lw_prepared_root(lw_prepared *p, lw_bref *out, lw_error *err);
 /* The hazard's minimal cut sets as a family (engine room), built from the
  * network and, if that meets its limit, from the frozen BDD. */
 lw_status lw_prepared_cut_family(const lw_prepared *p, const lw_options *opt,

@@ -639,7 +639,11 @@ static lw_status observation(lw_prepared *p, lw_incident *r, work *w,
             return bdd_failed(b, err);
     }
     w->obs = obs;
-    lw_bref joint = lw_bdd_and(b, obs, p->root);
+    lw_bref root;
+    st = lw_prepared_root(p, &root, err);
+    if (st != LW_OK)
+        return st;
+    lw_bref joint = lw_bdd_and(b, obs, root);
     if (joint == LW_BREF_INVALID)
         return bdd_failed(b, err);
     st = lw_diagram_freeze(b, obs, p->nlevels, lv, &w->dobs, err);

@@ -48,6 +48,23 @@ void lw_prepared_free(lw_prepared *p)
     lw_free(p);
 }
 
+lw_status lw_prepared_root(lw_prepared *p, lw_bref *out, lw_error *err)
+{
+    *out = LW_BREF_INVALID;
+    if (!p->builder)
+        return lw_error_set(err, LW_EINTERNAL, NULL, 0, "the decision "
+                            "diagram manager was already released");
+    if (p->root == LW_BREF_INVALID) {
+        lw_status st = lw_builder_gate(p->builder,
+                                       p->net->hazard_gate[p->hazard],
+                                       &p->root, err);
+        if (st != LW_OK)
+            return st;
+    }
+    *out = p->root;
+    return LW_OK;
+}
+
 lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
                      const lw_options *opt, lw_prepared **out, lw_error *err)
 {
@@ -86,12 +103,14 @@ lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
         goto fail;
     p->nlevels = lw_builder_nlevels(p->builder);
     p->hazard_levels = lw_builder_root_levels(p->builder);
-    st = lw_builder_gate(p->builder, net->hazard_gate[hazard], &p->root, err);
-    if (st != LW_OK)
-        goto fail;
-    st = lw_diagram_freeze(lw_builder_bdd(p->builder), p->root, p->nlevels,
-                           lw_builder_level_var(p->builder), &p->diagram,
-                           err);
+    /* the hazard module by module, straight to the frozen diagram; the
+     * builder's manager stays empty until a question needs more (see
+     * lw_prepared_root) */
+    p->root = LW_BREF_INVALID;
+    st = lw_diagram_build(net, net->hazard_gate[hazard],
+                          lw_builder_var_level(p->builder), p->nlevels,
+                          lw_builder_level_var(p->builder),
+                          opt ? opt->max_nodes : 0, &p->diagram, err);
     if (st != LW_OK)
         goto fail;
     p->q = lw_malloc((p->nlevels + 1) * sizeof *p->q);

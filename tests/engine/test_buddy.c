@@ -404,6 +404,19 @@ static void run_seed(uint64_t seed)
     /* one canonical graph: the same number of internal nodes */
     assert_int_equal((int)p->diagram->n - 2, bdd_nodecount(top));
     tu_same_family_both_ways(p, "buddy network");
+    {   /* the diagram built by modules, against gate by gate */
+        lw_bref r;
+        lw_diagram *plain = NULL;
+        assert_int_equal(lw_builder_gate(p->builder,
+                                         p->net->hazard_gate[0], &r, &err),
+                         LW_OK);
+        assert_int_equal(lw_diagram_freeze(lw_builder_bdd(p->builder), r,
+                                           p->nlevels,
+                                           lw_builder_level_var(p->builder),
+                                           &plain, &err), LW_OK);
+        tu_same_diagram(plain, p->diagram, "buddy network");
+        lw_diagram_free(plain);
+    }
 
     /* Birnbaum of a sample of events against BuDDy cofactors */
     double *bir = malloc((p->nlevels + 1) * sizeof *bir);

@@ -739,6 +739,22 @@ static void check_hazard(const lw_model *m, const gen *g, size_t h,
         var_p[v] = x->p;
     }
 
+    /* 0. the diagram built by modules equals the one built gate by gate
+     * with AND and OR in one manager */
+    {
+        lw_bref r;
+        lw_diagram *plain = NULL;
+        char what[64];
+        snprintf(what, sizeof what, "model %llu", (unsigned long long)seed);
+        assert_int_equal(lw_builder_gate(p->builder, hg, &r, &err), LW_OK);
+        assert_int_equal(lw_diagram_freeze(lw_builder_bdd(p->builder), r,
+                                           p->nlevels,
+                                           lw_builder_level_var(p->builder),
+                                           &plain, &err), LW_OK);
+        tu_same_diagram(plain, p->diagram, what);
+        lw_diagram_free(plain);
+    }
+
     /* 1. the BDD against the network's truth table */
     double P = p->probability;
     double brute = tu_brute_prob(net, hg, var_p);

@@ -39,6 +39,11 @@ double tu_prob(const lw_model *m, size_t variant, size_t hazard);
  * for bit); fails the test naming 'what' otherwise. */
 void tu_same_family_both_ways(const lw_prepared *p, const char *what);
 
+/* Two frozen diagrams are the same BDD up to the numbering of their nodes
+ * (a walk from the roots pairs every node one to one, level for level). */
+void tu_same_diagram(const lw_diagram *a, const lw_diagram *b,
+                     const char *what);
+
 /* A small deterministic PRNG for generated tests. */
 uint64_t tu_rand(uint64_t *state);
 double tu_uniform(uint64_t *state);

@@ -1,0 +1,213 @@
+/*
+ * test_modules.c - the diagram built module by module (engine/modules.c)
+ * is the diagram built gate by gate, on the shapes that stress it:
+ * modules nested with the same first event, modules tested with children
+ * other than the leaves, votes over modules, constant modules, splicing
+ * of OR under OR and AND under AND, shared events that stop a gate from
+ * being a module, and a chain of 100,000 nested blocks.
+ *
+ * Probabilities pinned here are closed forms (independent events).
+ */
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <cmocka.h>
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "layerwise/alloc.h"
+#include "testutil.h"
+
+#define HEAD "<?xml version=\"1.0\"?>\n<safety-model format=\"1\" id=\"m\">\n"
+#define END "</safety-model>\n"
+
+/* Prepare hazard 0, compare with the gate-by-gate build, return P. */
+static double check(const char *xml)
+{
+    lw_model *m = tu_load(xml);
+    lw_error err = LW_ERROR_INIT;
+    lw_prepared *p = NULL;
+    assert_int_equal(lw_prepare(m, LW_NONE, 0, NULL, &p, &err), LW_OK);
+    lw_bref r;
+    lw_diagram *plain = NULL;
+    assert_int_equal(lw_prepared_root(p, &r, &err), LW_OK);
+    assert_int_equal(lw_diagram_freeze(lw_builder_bdd(p->builder), r,
+                                       p->nlevels,
+                                       lw_builder_level_var(p->builder),
+                                       &plain, &err), LW_OK);
+    tu_same_diagram(plain, p->diagram, "modules");
+    double P = p->probability;
+    lw_diagram_free(plain);
+    lw_prepared_free(p);
+    lw_model_free(m);
+    lw_error_clear(&err);
+    return P;
+}
+
+#define EV(id, p) "<error id=\"" id "\" p=\"" p "\"/>"
+
+static void test_nested_same_first_event(void **state)
+{
+    (void)state;
+    /* h = (a OR b) AND c ... inside blocks that all start with a:
+     * hazard -> block X -> all(block Y, c) ; Y -> any(block Z, b) ;
+     * Z -> all(a, d).  P = ((a d) + b - a d b) c, closed form */
+    const char *xml = HEAD
+        EV("a", "0.1") EV("b", "0.2") EV("c", "0.3") EV("d", "0.4")
+        "<block id=\"Z\"><all><ref to=\"a\"/><ref to=\"d\"/></all></block>"
+        "<block id=\"Y\"><any><ref to=\"Z\"/><ref to=\"b\"/></any></block>"
+        "<block id=\"X\"><all><ref to=\"Y\"/><ref to=\"c\"/></all></block>"
+        "<hazard id=\"h\"><ref to=\"X\"/></hazard>" END;
+    double ad = 0.1 * 0.4;
+    assert_true(tu_close(check(xml), (ad + 0.2 - ad * 0.2) * 0.3, 1e-15));
+}
+
+static void test_module_tested_with_inner_children(void **state)
+{
+    (void)state;
+    /* OR(M, x) with x after M, and M = 2-of-3 module: the stand-in's lo
+     * child is x, not a leaf; M appears under a vote too */
+    const char *xml = HEAD
+        EV("a", "0.1") EV("b", "0.2") EV("c", "0.3") EV("x", "0.05")
+        EV("y", "0.5") EV("z", "0.6")
+        "<block id=\"M\"><vote k=\"2\"><ref to=\"a\"/><ref to=\"b\"/>"
+        "<ref to=\"c\"/></vote></block>"
+        "<hazard id=\"h\"><vote k=\"2\"><any><ref to=\"M\"/>"
+        "<ref to=\"x\"/></any><ref to=\"y\"/><ref to=\"z\"/></vote>"
+        "</hazard>" END;
+    double m = 0.1 * 0.2 + 0.1 * 0.3 + 0.2 * 0.3 - 2 * 0.1 * 0.2 * 0.3;
+    double u = m + 0.05 - m * 0.05;
+    double y = 0.5, z = 0.6;
+    double P = u * y + u * z + y * z - 2 * u * y * z;
+    assert_true(tu_close(check(xml), P, 1e-14));
+}
+
+static void test_shared_event_breaks_module(void **state)
+{
+    (void)state;
+    /* s is used in two paths: neither path is a module, their OR is */
+    const char *xml = HEAD
+        EV("e1", "0.01") EV("e2", "0.02") EV("s", "0.3") EV("t", "0.4")
+        EV("u", "0.5")
+        "<hazard id=\"h\"><any>"
+        "<all><ref to=\"e1\"/><ref to=\"s\"/><ref to=\"t\"/></all>"
+        "<all><ref to=\"e2\"/><ref to=\"s\"/></all>"
+        "<all><ref to=\"u\"/><ref to=\"t\"/></all>"
+        "</any></hazard>" END;
+    /* inclusion-exclusion over the three products (closed form) */
+    double A = 0.01 * 0.3 * 0.4, B = 0.02 * 0.3, C = 0.5 * 0.4;
+    double AB = 0.01 * 0.02 * 0.3 * 0.4, AC = 0.01 * 0.3 * 0.4 * 0.5,
+           BC = 0.02 * 0.3 * 0.5 * 0.4, ABC = 0.01 * 0.02 * 0.3 * 0.4 * 0.5;
+    assert_true(tu_close(check(xml), A + B + C - AB - AC - BC + ABC,
+                         1e-14));
+}
+
+static void test_spliced_or_and(void **state)
+{
+    (void)state;
+    /* OR under OR and AND under AND, anonymous and single-parent: spliced;
+     * the same gates with a second parent are not */
+    const char *xml = HEAD
+        EV("a", "0.1") EV("b", "0.2") EV("c", "0.3") EV("d", "0.4")
+        EV("e", "0.5")
+        "<block id=\"shared\"><any><ref to=\"d\"/><ref to=\"e\"/></any>"
+        "</block>"
+        "<hazard id=\"h\"><any><any><ref to=\"a\"/><any><ref to=\"b\"/>"
+        "<ref to=\"shared\"/></any></any>"
+        "<all><ref to=\"c\"/><all><ref to=\"shared\"/><ref to=\"a\"/></all>"
+        "</all></any></hazard>" END;
+    /* a + b + (d|e) absorbs c.(d|e).a: P = 1 - (1-a)(1-b)(1-d)(1-e) */
+    assert_true(tu_close(check(xml), 1 - 0.9 * 0.8 * 0.6 * 0.5, 1e-15));
+}
+
+static void test_constant_module(void **state)
+{
+    (void)state;
+    /* a condition that is false empties a block: a constant module */
+    const char *xml = HEAD
+        EV("a", "0.1") EV("b", "0.2")
+        "<condition id=\"night\" state=\"false\"/>"
+        "<block id=\"B\"><all><ref to=\"night\"/><ref to=\"a\"/></all>"
+        "</block>"
+        "<hazard id=\"h\"><any><ref to=\"B\"/><ref to=\"b\"/></any>"
+        "</hazard>" END;
+    assert_true(tu_close(check(xml), 0.2, 1e-15));
+}
+
+/* 100,000 blocks, each the OR of the next and one event: modules nested
+ * 100,000 deep (the write-out has no recursion).  P = 1 - 0.9^n. */
+static void test_deep_chain(void **state)
+{
+    (void)state;
+    int n = 100000;
+    size_t cap = (size_t)n * 120 + 256, len = 0;
+    char *xml = malloc(cap);
+    assert_non_null(xml);
+    len += (size_t)snprintf(xml + len, cap - len, HEAD);
+    for (int i = 0; i < n; i++)
+        len += (size_t)snprintf(xml + len, cap - len,
+                                "<error id=\"e%d\" p=\"1e-6\"/>\n", i);
+    for (int i = 0; i < n; i++) {
+        if (i + 1 < n)
+            len += (size_t)snprintf(xml + len, cap - len,
+                                    "<block id=\"b%d\"><any><ref to=\"e%d\"/>"
+                                    "<ref to=\"b%d\"/></any></block>\n", i, i,
+                                    i + 1);
+        else
+            len += (size_t)snprintf(xml + len, cap - len,
+                                    "<block id=\"b%d\"><any><ref to=\"e%d\"/>"
+                                    "</any></block>\n", i, i);
+    }
+    snprintf(xml + len, cap - len,
+             "<hazard id=\"h\"><ref to=\"b0\"/></hazard>" END);
+    double P = check(xml);
+    assert_true(tu_close(P, -expm1(n * log1p(-1e-6)), 1e-12));
+    free(xml);
+}
+
+/* Out of memory anywhere in the build: an error, nothing leaked. */
+static void test_allocation_failures(void **state)
+{
+    (void)state;
+    const char *xml = HEAD
+        EV("a", "0.1") EV("b", "0.2") EV("c", "0.3") EV("x", "0.05")
+        "<block id=\"M\"><vote k=\"2\"><ref to=\"a\"/><ref to=\"b\"/>"
+        "<ref to=\"c\"/></vote></block>"
+        "<hazard id=\"h\"><any><ref to=\"M\"/><ref to=\"x\"/></any>"
+        "</hazard>" END;
+    lw_model *m = tu_load(xml);
+    int failed = 0;
+    for (unsigned long k = 1; k < 400; k++) {
+        lw_error err = LW_ERROR_INIT;
+        lw_prepared *p = NULL;
+        lw_alloc_fail_at(k, 0);
+        lw_status st = lw_prepare(m, LW_NONE, 0, NULL, &p, &err);
+        lw_alloc_fail_at(0, 0);
+        if (st == LW_OK) {
+            lw_prepared_free(p);
+        } else {
+            assert_int_equal(st, LW_ENOMEM);
+            failed++;
+        }
+        lw_error_clear(&err);
+    }
+    assert_true(failed > 10);
+    lw_model_free(m);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_nested_same_first_event),
+        cmocka_unit_test(test_module_tested_with_inner_children),
+        cmocka_unit_test(test_shared_event_breaks_module),
+        cmocka_unit_test(test_spliced_or_and),
+        cmocka_unit_test(test_constant_module),
+        cmocka_unit_test(test_deep_chain),
+        cmocka_unit_test(test_allocation_failures),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
