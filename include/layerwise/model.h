@@ -144,12 +144,18 @@ typedef struct lw_model {
     bool streamed;      /* read as a stream, without a document tree */
 } lw_model;
 
+/* The largest nesting a caller may allow (deeper models are cut into
+ * blocks and refs anyway; each level costs stack in the builders). */
+#define LW_MAX_DEPTH_LIMIT 100000u
+#define LW_MAX_DEPTH_LIMIT_TEXT "100000"
+
 /* Limits the loader enforces; zero fields take the defaults. */
 typedef struct lw_load_limits {
     size_t max_bytes;       /* file size, default 64 MiB */
     size_t max_text;        /* one label/description/source, default 64 KiB */
     size_t max_nodes;       /* events + gates, default 5,000,000 */
-    unsigned max_depth;     /* element nesting, default 256 */
+    unsigned max_depth;     /* element nesting (the root element is 1),
+                               default 256, at most LW_MAX_DEPTH_LIMIT */
     size_t stream_from;     /* files of this many bytes or more are first
                                read as a stream, without a document tree
                                (the same model and messages, less time and

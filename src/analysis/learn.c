@@ -563,12 +563,24 @@ lw_status lw_learn_memory(const lw_model *m, const char *data, size_t len,
     csv_set_space_func(&L.csv, csv_space);
     csv_set_realloc_func(&L.csv, lw_realloc);
     csv_set_free_func(&L.csv, lw_free);
+    /* fields grow in steps of this many bytes (libcsv's 128 made a
+     * megabyte field cost seconds of copying) */
+    csv_set_blk_size(&L.csv, (size_t)64 << 10);
     bool malformed = false;
-    for (size_t i = 0; i < len && !L.oom && !L.stop; i++) {
-        unsigned char c = (unsigned char)data[i];
-        if (!L.row_line && c != ' ' && c != '\t' && c != '\r' && c != '\n')
-            L.row_line = L.line;
-        if (csv_parse(&L.csv, data + i, 1, on_field, on_row, &L) != 1) {
+    /* one physical line at a time, so that every callback and error knows
+     * its line */
+    for (size_t i = 0; i < len && !L.oom && !L.stop;) {
+        const char *nl = memchr(data + i, '\n', len - i);
+        size_t n = nl ? (size_t)(nl - (data + i)) + 1 : len - i;
+        if (!L.row_line)
+            for (size_t k = 0; k < n; k++) {
+                unsigned char c = (unsigned char)data[i + k];
+                if (c != ' ' && c != '\t' && c != '\r' && c != '\n') {
+                    L.row_line = L.line;
+                    break;
+                }
+            }
+        if (csv_parse(&L.csv, data + i, n, on_field, on_row, &L) != n) {
             if (csv_error(&L.csv) == CSV_ENOMEM ||
                 csv_error(&L.csv) == CSV_ETOOBIG) {
                 L.oom = 1;
@@ -590,7 +602,8 @@ lw_status lw_learn_memory(const lw_model *m, const char *data, size_t len,
             malformed = true;
             break;
         }
-        if (c == '\n')
+        i += n;
+        if (nl)
             L.line++;
     }
     if (!malformed && !L.oom && !L.stop &&
@@ -859,7 +872,12 @@ done:
                 st = LW_EINTERNAL;
         }
     }
-    if (st != LW_OK) {
+    if (st == LW_ENOMEM) {
+        lw_error_oom(err);      /* the check itself ran out of memory */
+        lw_free(*out);
+        *out = NULL;
+        *outlen = 0;
+    } else if (st != LW_OK) {
         lw_error_set(err, LW_EINTERNAL, file, 0, "the updated model did not "
                      "load back as expected (%s); nothing was written",
                      e2.count ? e2.items[0].message : lw_status_name(st));

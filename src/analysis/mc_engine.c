@@ -19,7 +19,6 @@
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_randist.h>
 #include <gsl/gsl_rng.h>
-#include <gsl/gsl_statistics_double.h>
 
 #ifdef _OPENMP
 #include <omp.h>
@@ -94,9 +93,22 @@ double *lw_mc_sorted(const double *x, size_t n)
     return s;
 }
 
+/* The quantile of GSL's gsl_stats_quantile_from_sorted_data (index
+ * f (n - 1), linear between neighbours), written as x[i] + d (x[i+1] -
+ * x[i]) and kept between the neighbours: GSL's (1 - d) x[i] + d x[i+1]
+ * can land one unit in the last place outside them when they are equal,
+ * which put a 5th percentile above the median. */
 double lw_mc_quantile(const double *sorted, size_t n, double f)
 {
-    return gsl_stats_quantile_from_sorted_data(sorted, 1, n, f);
+    if (n == 0)
+        return 0.0;
+    double index = f * (double)(n - 1);
+    size_t i = (size_t)index;
+    if (i >= n - 1)
+        return sorted[n - 1];
+    double lo = sorted[i], hi = sorted[i + 1];
+    double r = lo + (index - (double)i) * (hi - lo);
+    return r < lo ? lo : (r > hi ? hi : r);
 }
 
 double lw_beta_quantile(double f, double a, double b)

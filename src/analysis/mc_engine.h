@@ -27,7 +27,8 @@ uint64_t lw_mc_block_seed(uint64_t seed, uint64_t b);
 
 /* Sorted copy of x (lw_malloc'd), NULL when out of memory. */
 double *lw_mc_sorted(const double *x, size_t n);
-/* Quantile f of sorted data (GSL, linear interpolation). */
+/* Quantile f of sorted data (GSL's definition: linear interpolation at
+ * index f (n - 1)), never outside the two samples it lies between. */
 double lw_mc_quantile(const double *sorted, size_t n, double f);
 
 /* Quantile f of Beta(a, b), by bisection on GSL's beta CDF. */

@@ -12,7 +12,7 @@
 
 enum {
     K_HAZARD = 1000, K_VARIANT, K_FORMAT, K_TABLE, K_MAX_NODES, K_MAX_BYTES,
-    K_MAX_EVENTS, K_TOP, K_CUTOFF, K_MAX_ORDER, K_GOAL, K_SAMPLES, K_SEED,
+    K_MAX_EVENTS, K_MAX_DEPTH, K_TOP, K_CUTOFF, K_MAX_ORDER, K_GOAL, K_SAMPLES, K_SEED,
     K_THREADS, K_EVENT, K_FROM, K_TO, K_STEPS, K_LOGSCALE, K_FAILED, K_HELD,
     K_LOG, K_HELP
 };
@@ -25,6 +25,7 @@ static const struct option long_opts[] = {
     {"max-nodes", required_argument, NULL, K_MAX_NODES},
     {"max-bytes", required_argument, NULL, K_MAX_BYTES},
     {"max-events", required_argument, NULL, K_MAX_EVENTS},
+    {"max-depth", required_argument, NULL, K_MAX_DEPTH},
     {"top", required_argument, NULL, K_TOP},
     {"cutoff", required_argument, NULL, K_CUTOFF},
     {"max-order", required_argument, NULL, K_MAX_ORDER},
@@ -184,6 +185,16 @@ int cli_parse(int argc, char **argv, unsigned accept, const char *help,
             if (parse_count("--max-events", optarg, &a->limits.max_nodes))
                 return EXIT_USAGE;
             break;
+        case K_MAX_DEPTH: {
+            size_t depth = 0;
+            if (parse_count("--max-depth", optarg, &depth))
+                return EXIT_USAGE;
+            if (depth < 2 || depth > LW_MAX_DEPTH_LIMIT)
+                return usage("--max-depth needs a number from 2 to %s",
+                             LW_MAX_DEPTH_LIMIT_TEXT);
+            a->limits.max_depth = (unsigned)depth;
+            break;
+        }
         case K_TOP:
             if (parse_count("--top", optarg, &a->opt.top))
                 return EXIT_USAGE;
@@ -402,8 +413,14 @@ int cli_sink_open(cli_sink *s, const char *path)
 int cli_sink_close(cli_sink *s, int ok)
 {
     if (!s->to_file) {
-        if (fflush(stdout) != 0)
+        /* a full disk, a closed pipe: say so (unless the caller already
+         * reported its own failure) */
+        if (fflush(stdout) != 0 || ferror(stdout)) {
+            if (ok)
+                fprintf(stderr, "layerwise: writing the output failed "
+                        "(%s)\n", strerror(errno));
             return EXIT_INVALID;
+        }
         return 0;
     }
     if (!ok) {

@@ -52,7 +52,7 @@ typedef struct cli_args {
     const char *output;         /* -o */
     lw_options opt;             /* --max-nodes, --top, --cutoff, ... */
     bool top_set;
-    lw_load_limits limits;      /* --max-bytes, --max-events */
+    lw_load_limits limits;      /* --max-bytes, --max-events, --max-depth */
     double goal;
     bool goal_set;
     size_t samples;

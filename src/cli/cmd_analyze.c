@@ -24,7 +24,8 @@ static const char help[] =
     "  --max-order K        leave out cut sets of more than K events\n"
     "  --max-nodes N        decision-diagram node limit (default 20,000,000)\n"
     "  -o FILE              write to FILE (atomically) instead of stdout\n"
-    "  --max-bytes N, --max-events N   input limits (see check --help)\n"
+    "  --max-bytes N, --max-events N, --max-depth N   input limits (see\n"
+    "                       check --help)\n"
     "\n"
     "exit status: 0 done, 1 invalid model or analysis stopped, 2 usage\n";
 

@@ -15,6 +15,8 @@ static const char help[] =
     "  --format text|json   output format (default text)\n"
     "  --max-bytes N        largest model file read (default 64 MiB)\n"
     "  --max-events N       most events and gates (default 5,000,000)\n"
+    "  --max-depth N        deepest element nesting (default 256, at most "
+    "100000)\n"
     "\n"
     "exit status: 0 valid, 1 invalid, 2 usage error\n";
 

@@ -1,5 +1,6 @@
 /* cmd_diagram.c - layerwise diagram: the tree as a picture. */
 #define _POSIX_C_SOURCE 200809L
+#include <errno.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -111,11 +112,12 @@ int cmd_diagram(int argc, char **argv)
             const char *data = svg ? svg_text : dot;
             size_t len = svg ? svg_len : dot_len;
             int ok = fwrite(data, 1, len, sink.fp) == len;
+            if (!ok)
+                fprintf(stderr, "layerwise: writing the output failed "
+                        "(%s)\n", strerror(errno));
             rc = cli_sink_close(&sink, ok);
-            if (!ok && !rc) {
-                fprintf(stderr, "layerwise: %s: could not write\n", a.output);
+            if (!ok)
                 rc = EXIT_INVALID;
-            }
         }
     }
     lw_error_clear(&err);

@@ -28,7 +28,8 @@ static const char help[] =
     "  --format text|json   output\n"
     "  -o FILE              write to FILE (atomically) instead of stdout\n"
     "  --max-nodes N        decision-diagram node limit\n"
-    "  --max-bytes N, --max-events N   input limits (see check --help)\n"
+    "  --max-bytes N, --max-events N, --max-depth N   input limits (see\n"
+    "                       check --help)\n"
     "\n"
     "exit status: 0 done, 1 invalid model or impossible observation,\n"
     "2 usage (unknown id, an id both failed and held)\n";

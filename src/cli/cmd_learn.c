@@ -1,6 +1,7 @@
 /* cmd_learn.c - layerwise learn: safeguard estimates and layers that miss
  * together, from a near-miss / incident log; -o writes an updated model. */
 #define _POSIX_C_SOURCE 200809L
+#include <errno.h>
 #include <string.h>
 #include <sys/stat.h>
 
@@ -27,7 +28,8 @@ static const char help[] =
     "                       (atomically; never the input model itself)\n"
     "  --format text|json|csv   the report on standard output (csv: the\n"
     "                       layers table; --table together: the pairs)\n"
-    "  --max-bytes N, --max-events N   input limits (see check --help)\n"
+    "  --max-bytes N, --max-events N, --max-depth N   input limits (see\n"
+    "                       check --help)\n"
     "\n"
     "exit status: 0 done, 1 invalid model or log (nothing written), 2 usage\n";
 
@@ -120,8 +122,11 @@ int cmd_learn(int argc, char **argv)
         if (a.output)
             printf("\nWrote the updated model to %s.\n", a.output);
     }
-    if (fflush(stdout) != 0)
+    if (fflush(stdout) != 0 || ferror(stdout)) {
+        fprintf(stderr, "layerwise: writing the output failed (%s)\n",
+                strerror(errno));
         rc = EXIT_INVALID;
+    }
 out:
     lw_error_clear(&err);
     lw_free(updated);

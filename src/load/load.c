@@ -17,8 +17,9 @@
  *   found, and the partial model is freed.
  *
  * LIMITS
- *   Element nesting is bounded by libxml2 (256 levels unless a larger limit
- *   is asked for); file size, text length and node count by lw_load_limits.
+ *   File size, text length, node count and element nesting by
+ *   lw_load_limits (nesting: libxml2 stops at 256 levels unless a larger
+ *   limit is asked for, and a smaller one is checked here).
  */
 #include "layerwise/model.h"
 
@@ -1238,7 +1239,7 @@ static void xml_error_cb(void *ud, xmlErrorPtr e)
     } else if (strstr(msg, "Excessive depth")) {
         snprintf(msg, sizeof msg, "elements are nested more than %u deep, "
                  "the limit; use <block> and <ref> to share logic instead "
-                 "of nesting it", L->lim.max_depth);
+                 "of nesting it, or raise --max-depth", L->lim.max_depth);
     } else if (strstr(msg, "This element is not expected") && e->node &&
                ((xmlNodePtr)e->node)->parent &&
                is_logic_elem((xmlNodePtr)e->node) &&
@@ -1408,6 +1409,32 @@ static void scan_tree(tag_scan *s, xmlNodePtr root)
     }
 }
 
+/* The first element more than 'max' deep under 'top' (itself at depth
+ * 'top_depth'), in document order, or NULL. */
+static xmlNodePtr deeper_than(xmlNodePtr top, unsigned top_depth,
+                              unsigned max)
+{
+    xmlNodePtr n = top;
+    unsigned depth = top_depth;
+    while (n) {
+        if (n->type == XML_ELEMENT_NODE && depth > max)
+            return n;
+        if (n->type == XML_ELEMENT_NODE && n->children) {
+            n = n->children;
+            depth++;
+            continue;
+        }
+        while (n && !n->next && n != top) {
+            n = n->parent;
+            depth--;
+        }
+        if (!n || n == top)
+            return NULL;
+        n = n->next;
+    }
+    return NULL;
+}
+
 static void mark_begin_lines(xmlNodePtr root, const char *d, size_t len)
 {
     tag_scan s = {d, len, 0, 1, 1};
@@ -1489,6 +1516,8 @@ static void set_limits(lw_load_limits *out, const lw_load_limits *in)
         out->max_nodes = 5000000;
     if (!out->max_depth)
         out->max_depth = 256;
+    if (out->max_depth > LW_MAX_DEPTH_LIMIT)
+        out->max_depth = LW_MAX_DEPTH_LIMIT;
     if (!out->stream_from)
         out->stream_from = (size_t)1 << 20;
 }
@@ -1672,6 +1701,10 @@ static lw_status load_streaming(const char *data, size_t len,
                 ok = 0;
                 break;
             }
+            if (deeper_than(c, 2, L.lim.max_depth)) {
+                ok = 0;         /* the tree path reports it */
+                break;
+            }
             scan_tree(&scan, c);
             build_root_child(&L, c);
             ret = xmlTextReaderNext(r);
@@ -1765,6 +1798,15 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
     xmlNodePtr root = xmlDocGetRootElement(doc);
     if (root)
         mark_begin_lines(root, data, len);
+    xmlNodePtr deep = root ? deeper_than(root, 1, L.lim.max_depth) : NULL;
+    if (deep) {
+        st = lw_error_set(err, LW_ELIMIT, L.file, line_of(deep), "elements "
+                          "are nested more than %u deep, the limit; use "
+                          "<block> and <ref> to share logic instead of "
+                          "nesting it, or raise --max-depth",
+                          L.lim.max_depth);
+        goto out;
+    }
     if (!root || !xmlStrEqual(root->name, (const xmlChar *)"safety-model")) {
         st = lw_error_set(err, LW_EMODEL, L.file,
                           root ? line_of(root) : 1, "the root element is "

@@ -49,6 +49,11 @@ n = 200000
 w('gen-deep-nesting.xml', head + '<safety-model format="1" id="deep">\n'
   '<hazard id="h">' + '<all>' * n + '<error id="e" p="0.1"/>' +
   '</all>' * n + '</hazard>\n</safety-model>\n')
+# 1,000 nested gates: over the default limit, under a raised one
+n = 1000
+w('gen-nesting-1000.xml', head + '<safety-model format="1" id="n1000">\n'
+  '<hazard id="h">' + '<any>' * n + '<error id="e" p="0.1"/>' +
+  '</any>' * n + '</hazard>\n</safety-model>\n')
 # a 2 MiB label, a 2 MiB description
 big = 'x' * (2 << 20)
 w('gen-long-label.xml', head + '<safety-model format="1" id="label">\n'

@@ -169,5 +169,39 @@ else
          "cli.md says input files are never modified"
 fi
 
+# 7. standard output that cannot be written (a full disk): every command
+#    says so and exits 1
+if [ -w /dev/full ]; then
+    LOG=$SRC/trees/transfusion-log.csv
+    while IFS= read -r args; do
+        # shellcheck disable=SC2086
+        "$BIN" $args >/dev/full 2>"$TMP/stderr"
+        rc=$?
+        if [ $rc -ne 1 ]; then
+            fail "$args >/dev/full: exit $rc, want 1"
+        elif ! grep -Eq "^layerwise: (writing the output failed|could not write)" "$TMP/stderr"; then
+            fail "$args >/dev/full: no message: $(head -c 300 "$TMP/stderr")"
+        else
+            pass
+        fi
+    done <<EOF_CMDS
+check $MODEL
+check --format json $MODEL
+analyze $MODEL
+analyze --format json $MODEL
+analyze --format csv $MODEL
+target $MODEL
+uncertainty --samples 200 $MODEL
+compare --variant two-sample-rule $SRC/trees/transfusion.xml
+sweep --event programming-error --from 0.01 --to 0.1 $MODEL
+report --samples 0 -o - $MODEL
+diagram $MODEL
+incident --failed programming-error $MODEL
+learn --log $LOG $SRC/trees/transfusion.xml
+EOF_CMDS
+else
+    known "/dev/full is not writable here: standard-output failures not tested"
+fi
+
 echo "output_files: $passes passed, $fails failed, $skips skipped"
 [ "$fails" -eq 0 ]
