@@ -9,6 +9,10 @@
  *
  * Besides crashes, leaks and undefined behaviour (the sanitizers), the
  * harness traps on broken contracts:
+ *   - the input read as a stream gives the same model, or the same
+ *     messages, as read as a tree;
+ *   - the BDD built by modules is the one built gate by gate, and the
+ *     cut-set family from the network is the one from the BDD;
  *   - a call returns LW_OK exactly when it hands back a result;
  *   - a failed call leaves a status and a message (or the OOM flag) in
  *     its lw_error, and every message is one line;
@@ -111,6 +115,80 @@ static void check_analysis(const lw_analysis *a)
         CHECK(is_prob(r->p_true) || fabs(r->p_true - 1) < 1e-12);
         CHECK(r->p_false >= -1e-300 && r->p_false <= 1 + 1e-12);
     }
+}
+
+/* Two frozen diagrams are one BDD up to numbering: a walk from the roots
+ * pairs their nodes one to one, level for level. */
+static void check_same_diagram(const lw_diagram *a, const lw_diagram *b)
+{
+    CHECK(a->n == b->n);
+    uint32_t *map = malloc((size_t)a->n * sizeof *map);
+    uint32_t *back = malloc((size_t)a->n * sizeof *back);
+    uint32_t *stack = malloc((size_t)a->n * 2 * sizeof *stack + 16);
+    CHECK(map && back && stack);
+    memset(map, 0xff, (size_t)a->n * sizeof *map);
+    memset(back, 0xff, (size_t)a->n * sizeof *back);
+    map[0] = back[0] = 0;
+    map[1] = back[1] = 1;
+    size_t sp = 0;
+    stack[sp++] = a->root;
+    stack[sp++] = b->root;
+    while (sp) {
+        uint32_t y = stack[--sp], x = stack[--sp];
+        if (map[x] != UINT32_MAX || back[y] != UINT32_MAX) {
+            CHECK(map[x] == y && back[y] == x);
+            continue;
+        }
+        CHECK(x > 1 && y > 1 && a->level[x] == b->level[y]);
+        map[x] = y;
+        back[y] = x;
+        stack[sp++] = a->hi[x];
+        stack[sp++] = b->hi[y];
+        stack[sp++] = a->lo[x];
+        stack[sp++] = b->lo[y];
+    }
+    free(map);
+    free(back);
+    free(stack);
+}
+
+/* The two ways of building each thing give the same thing: the BDD by
+ * modules and gate by gate; the cut sets from the network and from the
+ * BDD. */
+static void run_builds(const lw_model *m, size_t h, size_t v)
+{
+    lw_options opt;
+    lw_options_init(&opt);
+    opt.max_nodes = 200000;
+    lw_error err = LW_ERROR_INIT;
+    lw_prepared *p = NULL;
+    lw_status st = lw_prepare(m, v, h, &opt, &p, &err);
+    check_call(st, p, &err);
+    lw_error_clear(&err);
+    if (!p)
+        return;
+    lw_bref r;
+    lw_diagram *plain = NULL;
+    if (lw_prepared_root(p, &r, &err) == LW_OK &&
+        lw_diagram_freeze(lw_builder_bdd(p->builder), r, p->nlevels,
+                          lw_builder_level_var(p->builder), &plain,
+                          &err) == LW_OK)
+        check_same_diagram(plain, p->diagram);
+    lw_diagram_free(plain);
+    lw_error_clear(&err);
+    lw_cut_family *fb = NULL, *fn = NULL;
+    lw_status sb = lw_cut_family_new(p->diagram, p->q, 200000, &fb, &err);
+    lw_error_clear(&err);
+    lw_status sn = lw_prepared_cut_family(p, &opt, &fn, &err);
+    lw_error_clear(&err);
+    if (sb == LW_OK && sn == LW_OK) {
+        CHECK(lw_cut_family_nodes(fb) == lw_cut_family_nodes(fn));
+        CHECK(lw_cut_family_count(fb) == lw_cut_family_count(fn));
+        CHECK(lw_cut_family_rare_event(fb) == lw_cut_family_rare_event(fn));
+    }
+    lw_cut_family_free(fb);
+    lw_cut_family_free(fn);
+    lw_prepared_free(p);
 }
 
 static void run_hazard(const lw_model *m, size_t h, size_t v)
@@ -237,6 +315,36 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     lw_status st = lw_model_load_memory((const char *)data, size, "fuzz.xml",
                                         &lim, &m, &err);
     check_call(st, m, &err);
+    /* read as a stream, the same input gives the same model or the same
+     * messages (the stream gives up and the tree path reports) */
+    {
+        lw_load_limits sl = lim;
+        sl.stream_from = 1;
+        lw_error e2 = LW_ERROR_INIT;
+        lw_model *m2 = NULL;
+        lw_status s2 = lw_model_load_memory((const char *)data, size,
+                                            "fuzz.xml", &sl, &m2, &e2);
+        check_call(s2, m2, &e2);
+        CHECK(s2 == st);
+        if (m && m2) {
+            CHECK(m->nnodes == m2->nnodes && m->nwarnings == m2->nwarnings &&
+                  m->nhazards == m2->nhazards &&
+                  m->nvariants == m2->nvariants);
+            for (size_t i = 0; i < m->nnodes; i++)
+                CHECK(m->nodes[i].line == m2->nodes[i].line &&
+                      m->nodes[i].kind == m2->nodes[i].kind &&
+                      m->nodes[i].nin == m2->nodes[i].nin);
+            for (size_t i = 0; i < m->nwarnings; i++)
+                CHECK(strcmp(m->warnings[i], m2->warnings[i]) == 0);
+        } else if (!m && !m2) {
+            CHECK(err.count == e2.count);
+            for (size_t i = 0; i < err.count; i++)
+                CHECK(err.items[i].line == e2.items[i].line &&
+                      strcmp(err.items[i].message, e2.items[i].message) == 0);
+        }
+        lw_model_free(m2);
+        lw_error_clear(&e2);
+    }
     if (!m)
         return 0;
     CHECK(m->nhazards >= 1);
@@ -255,6 +363,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     }
     size_t nh = m->nhazards < MAX_HAZARDS ? m->nhazards : MAX_HAZARDS;
     for (size_t h = 0; h < nh; h++) {
+        run_builds(m, h, LW_NONE);
         run_hazard(m, h, LW_NONE);
         for (size_t v = 0; v < m->nvariants && v < MAX_VARIANTS; v++)
             run_hazard(m, h, v);
