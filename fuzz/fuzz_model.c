@@ -117,41 +117,6 @@ static void check_analysis(const lw_analysis *a)
     }
 }
 
-/* Two frozen diagrams are one BDD up to numbering: a walk from the roots
- * pairs their nodes one to one, level for level. */
-static void check_same_diagram(const lw_diagram *a, const lw_diagram *b)
-{
-    CHECK(a->n == b->n);
-    uint32_t *map = malloc((size_t)a->n * sizeof *map);
-    uint32_t *back = malloc((size_t)a->n * sizeof *back);
-    uint32_t *stack = malloc((size_t)a->n * 2 * sizeof *stack + 16);
-    CHECK(map && back && stack);
-    memset(map, 0xff, (size_t)a->n * sizeof *map);
-    memset(back, 0xff, (size_t)a->n * sizeof *back);
-    map[0] = back[0] = 0;
-    map[1] = back[1] = 1;
-    size_t sp = 0;
-    stack[sp++] = a->root;
-    stack[sp++] = b->root;
-    while (sp) {
-        uint32_t y = stack[--sp], x = stack[--sp];
-        if (map[x] != UINT32_MAX || back[y] != UINT32_MAX) {
-            CHECK(map[x] == y && back[y] == x);
-            continue;
-        }
-        CHECK(x > 1 && y > 1 && a->level[x] == b->level[y]);
-        map[x] = y;
-        back[y] = x;
-        stack[sp++] = a->hi[x];
-        stack[sp++] = b->hi[y];
-        stack[sp++] = a->lo[x];
-        stack[sp++] = b->lo[y];
-    }
-    free(map);
-    free(back);
-    free(stack);
-}
-
 /* The two ways of building each thing give the same thing: the BDD by
  * modules and gate by gate; the cut sets from the network and from the
  * BDD. */
@@ -173,7 +138,7 @@ static void run_builds(const lw_model *m, size_t h, size_t v)
         lw_diagram_freeze(lw_builder_bdd(p->builder), r, p->nlevels,
                           lw_builder_level_var(p->builder), &plain,
                           &err) == LW_OK)
-        check_same_diagram(plain, p->diagram);
+        CHECK(lw_diagram_same(plain, p->diagram) == 1);
     lw_diagram_free(plain);
     lw_error_clear(&err);
     lw_cut_family *fb = NULL, *fn = NULL;

@@ -81,6 +81,12 @@ lw_bref lw_zdd_minimal(lw_bdd *z, lw_bref P);
 uint32_t lw_zdd_deepest(const lw_bdd *z, lw_bref P);
 bool lw_zdd_has_empty(const lw_bdd *z, lw_bref P);
 void lw_zdd_mark_minimal(lw_bdd *z, lw_bref P);
+/* Sort refs by the level of their top node, deepest first, equal levels
+ * by increasing index: the order in which gate inputs are folded (the
+ * order puts earlier inputs higher, so combining a higher operand with
+ * the lower accumulated one only walks the higher).  In place, no memory,
+ * O(n log n) for the gates with tens of thousands of inputs. */
+void lw_bdd_sort_deepest_first(const lw_bdd *b, lw_bref *r, size_t n);
 /* Number of nodes reachable from f, terminals included. */
 size_t lw_bdd_size(const lw_bdd *b, lw_bref f);
 
@@ -130,6 +136,10 @@ lw_status lw_diagram_freeze_canonical(const lw_bdd *b, lw_bref f,
                                       const uint32_t *level_var,
                                       lw_diagram **out, lw_error *err);
 void lw_diagram_free(lw_diagram *d);
+/* 1 when a and b are the same BDD up to the numbering of their nodes (a
+ * walk from the roots pairs their nodes one to one, level for level), 0
+ * when not, -1 when out of memory. */
+int lw_diagram_same(const lw_diagram *a, const lw_diagram *b);
 
 /* The frozen BDD of gate 'root' of a monotone network (AND, OR, k-of-n),
  * built module by module (engine/modules.c): each module's diagram once,

@@ -623,6 +623,56 @@ void lw_zdd_mark_minimal(lw_bdd *z, lw_bref P)
         z->deep[P] |= DEEP_MIN;
 }
 
+/* r[i] goes before r[j]: the deeper top level first, then the smaller
+ * index (a total order, so the result does not depend on the input's). */
+static inline int deeper(const lw_bdd *b, lw_bref x, lw_bref y)
+{
+    uint32_t lx = b->nodes[x].level, ly = b->nodes[y].level;
+    return lx != ly ? lx > ly : x < y;
+}
+
+static void sift_down(const lw_bdd *b, lw_bref *r, size_t i, size_t n)
+{
+    for (;;) {
+        size_t c = 2 * i + 1;
+        if (c >= n)
+            return;
+        if (c + 1 < n && deeper(b, r[c], r[c + 1]))
+            c++;                        /* the later of the two children */
+        if (!deeper(b, r[i], r[c]))
+            return;
+        lw_bref t = r[i];
+        r[i] = r[c];
+        r[c] = t;
+        i = c;
+    }
+}
+
+void lw_bdd_sort_deepest_first(const lw_bdd *b, lw_bref *r, size_t n)
+{
+    if (n <= 16) {                      /* gates are mostly small */
+        for (size_t i = 1; i < n; i++) {
+            lw_bref x = r[i];
+            size_t j = i;
+            while (j > 0 && deeper(b, x, r[j - 1])) {
+                r[j] = r[j - 1];
+                j--;
+            }
+            r[j] = x;
+        }
+        return;
+    }
+    /* heapsort: the heap's top is the element that goes last */
+    for (size_t i = n / 2; i-- > 0;)
+        sift_down(b, r, i, n);
+    for (size_t end = n; end-- > 1;) {
+        lw_bref t = r[0];
+        r[0] = r[end];
+        r[end] = t;
+        sift_down(b, r, 0, end);
+    }
+}
+
 size_t lw_bdd_size(const lw_bdd *b, lw_bref f)
 {
     if (f == LW_BREF_INVALID)
@@ -772,6 +822,56 @@ oom:
     lw_free(map);
     lw_diagram_free(d);
     return lw_error_oom(err);
+}
+
+int lw_diagram_same(const lw_diagram *a, const lw_diagram *b)
+{
+    if (a->n != b->n || a->nlevels != b->nlevels)
+        return 0;
+    uint32_t *map = lw_malloc((size_t)a->n * sizeof *map);
+    uint32_t *back = lw_malloc((size_t)a->n * sizeof *back);
+    uint32_t *stack = lw_malloc(((size_t)a->n + 1) * 2 * sizeof *stack);
+    int same = 1;
+    if (!map || !back || !stack) {
+        same = -1;
+        goto done;
+    }
+    memset(map, 0xff, (size_t)a->n * sizeof *map);
+    memset(back, 0xff, (size_t)a->n * sizeof *back);
+    map[0] = back[0] = 0;
+    map[1] = back[1] = 1;
+    /* each pair is pushed once (when first met), so the stack holds at
+     * most one entry per node */
+    size_t sp = 0;
+    if (a->root > 1 && b->root > 1) {
+        map[a->root] = b->root;
+        back[b->root] = a->root;
+        stack[sp++] = a->root;
+    } else {
+        same = a->root == b->root;
+    }
+    while (sp && same) {
+        uint32_t x = stack[--sp], y = map[x];
+        if (a->level[x] != b->level[y]) {
+            same = 0;
+            break;
+        }
+        uint32_t cx[2] = {a->hi[x], a->lo[x]}, cy[2] = {b->hi[y], b->lo[y]};
+        for (int k = 0; k < 2 && same; k++) {
+            if (map[cx[k]] == UINT32_MAX && back[cy[k]] == UINT32_MAX) {
+                map[cx[k]] = cy[k];
+                back[cy[k]] = cx[k];
+                stack[sp++] = cx[k];
+            } else if (map[cx[k]] != cy[k] || back[cy[k]] != cx[k]) {
+                same = 0;
+            }
+        }
+    }
+done:
+    lw_free(map);
+    lw_free(back);
+    lw_free(stack);
+    return same;
 }
 
 void lw_diagram_free(lw_diagram *d)

@@ -147,22 +147,6 @@ static lw_status build_failed(lw_builder *bl, lw_error *err)
     return lw_error_oom(err);
 }
 
-/* Insertion-sort refs by the level of their top node, deepest first
- * (inputs usually arrive nearly in order, so this is close to linear). */
-static void sort_by_depth(const lw_bdd *b, lw_bref *r, uint32_t n)
-{
-    for (uint32_t i = 1; i < n; i++) {
-        lw_bref x = r[i];
-        uint32_t lx = lw_bdd_level(b, x);
-        uint32_t j = i;
-        while (j > 0 && lw_bdd_level(b, r[j - 1]) < lx) {
-            r[j] = r[j - 1];
-            j--;
-        }
-        r[j] = x;
-    }
-}
-
 static lw_bref build_one(lw_builder *bl, uint32_t g)
 {
     const lw_network *net = bl->net;
@@ -186,7 +170,7 @@ static lw_bref build_one(lw_builder *bl, uint32_t g)
         bl->ins = ins;
         for (uint32_t i = 0; i < gt->nin; i++)
             ins[i] = bl->memo[in[i]];
-        sort_by_depth(b, ins, gt->nin);
+        lw_bdd_sort_deepest_first(b, ins, gt->nin);
         lw_bref acc = gt->kind == LW_GATE_AND ? LW_BDD_TRUE : LW_BDD_FALSE;
         for (uint32_t i = 0; i < gt->nin; i++) {
             acc = gt->kind == LW_GATE_AND ? lw_bdd_and(b, ins[i], acc)

@@ -136,23 +136,6 @@ lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
     return st;
 }
 
-/* Insertion-sort families by the level of their top node, deepest first
- * (see the builder: combining a higher operand with a lower accumulated
- * one only walks the higher). */
-static void sort_deepest_first(const lw_bdd *z, lw_bref *r, uint32_t n)
-{
-    for (uint32_t i = 1; i < n; i++) {
-        lw_bref x = r[i];
-        uint32_t lx = lw_bdd_level(z, x);
-        uint32_t j = i;
-        while (j > 0 && lw_bdd_level(z, r[j - 1]) < lx) {
-            r[j] = r[j - 1];
-            j--;
-        }
-        r[j] = x;
-    }
-}
-
 /* Do the inputs (sorted deepest first) use levels in ranges that do not
  * overlap, and lack the empty set?  Then unions and products of them are
  * minimal without a check: no set of one input can hold a set of
@@ -184,7 +167,7 @@ static lw_bref gate_family(lw_bdd *z, const lw_gate *g, lw_bref *ins,
         return lw_bdd_mk(z, var_level[g->var], 1, 0);
     case LW_GATE_AND:
     case LW_GATE_OR: {
-        sort_deepest_first(z, ins, g->nin);
+        lw_bdd_sort_deepest_first(z, ins, g->nin);
         int dis = disjoint_inputs(z, ins, g->nin);
         lw_bref acc = g->kind == LW_GATE_AND ? 1 : 0;
         for (uint32_t i = 0; i < g->nin && acc != LW_BREF_INVALID; i++) {
@@ -207,7 +190,7 @@ static lw_bref gate_family(lw_bdd *z, const lw_gate *g, lw_bref *ins,
         /* inputs sorted deepest first work like the BDD's order: each
          * step only walks the new input (at least j of n does not depend
          * on the inputs' order) */
-        sort_deepest_first(z, ins, n);
+        lw_bdd_sort_deepest_first(z, ins, n);
         int dis = disjoint_inputs(z, ins, n);
         row[0] = 1;
         for (uint32_t j = 1; j <= k; j++)

@@ -263,37 +263,6 @@ static lw_status link_modules(builder *B)
 
 /* ---- 2. each module's BDD -------------------------------------------- */
 
-typedef struct ranked {
-    uint32_t level;
-    lw_bref ref;
-} ranked;
-
-static int cmp_deepest(const void *a, const void *b)
-{
-    const ranked *x = a, *y = b;
-    if (x->level != y->level)
-        return x->level > y->level ? -1 : 1;
-    return (x->ref > y->ref) - (x->ref < y->ref);
-}
-
-/* Deepest top level first (see the builder: combining a higher operand
- * with the lower accumulated one only walks the higher).  A spliced gate
- * can have tens of thousands of inputs in any order: a real sort. */
-static int sort_by_depth(const lw_bdd *b, lw_bref *r, uint32_t n,
-                         ranked **tmp, size_t *cap)
-{
-    ranked *t = lw_grow(*tmp, cap, n + 1, sizeof *t);
-    if (!t)
-        return 0;
-    *tmp = t;
-    for (uint32_t i = 0; i < n; i++)
-        t[i] = (ranked){lw_bdd_level(b, r[i]), r[i]};
-    qsort(t, n, sizeof *t, cmp_deepest);
-    for (uint32_t i = 0; i < n; i++)
-        r[i] = t[i].ref;
-    return 1;
-}
-
 /* Gates spliced into their parent: an AND directly under an AND (or an
  * OR under an OR) with no other parent, and not a module, adds its inputs
  * to its parent's instead of being built (associativity).  Otherwise
@@ -339,8 +308,7 @@ static lw_status build_modules(builder *B)
     lw_bref *val = lw_malloc(ng * sizeof *val);
     lw_bref *ins = NULL;
     uint32_t *todo = NULL;
-    ranked *rank = NULL;
-    size_t cap_ins = 0, cap_todo = 0, cap_rank = 0;
+    size_t cap_ins = 0, cap_todo = 0;
     unsigned char *spliced = NULL;
     if (!val)
         return lw_error_oom(B->err);
@@ -403,10 +371,7 @@ static lw_status build_modules(builder *B)
         switch (gt->kind) {
         case LW_GATE_AND:
         case LW_GATE_OR:
-            if (!sort_by_depth(b, ins, nins, &rank, &cap_rank)) {
-                st = lw_error_oom(B->err);
-                break;
-            }
+            lw_bdd_sort_deepest_first(b, ins, nins);
             r = gt->kind == LW_GATE_AND ? LW_BDD_TRUE : LW_BDD_FALSE;
             for (uint32_t k = 0; k < nins && r != LW_BREF_INVALID; k++)
                 r = gt->kind == LW_GATE_AND ? lw_bdd_and(b, ins[k], r)
@@ -453,7 +418,6 @@ static lw_status build_modules(builder *B)
     lw_free(val);
     lw_free(ins);
     lw_free(todo);
-    lw_free(rank);
     lw_free(spliced);
     return st;
 }

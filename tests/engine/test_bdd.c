@@ -550,6 +550,47 @@ static void test_zdd_rule(void **state)
     lw_bdd_free(z);
 }
 
+/* ---- comparing frozen diagrams --------------------------------------- */
+
+/* lw_diagram_same: one function frozen two ways (node order by index, and
+ * canonical) is the same; two functions with as many nodes are not. */
+static void test_diagram_same(void **state)
+{
+    (void)state;
+    lw_bdd *b = lw_bdd_new(4, 0);
+    lw_bref x[4];
+    for (uint32_t i = 0; i < 4; i++)
+        x[i] = lw_bdd_var(b, i);
+    /* made in an order that differs from a walk from the root */
+    lw_bref g = lw_bdd_or(b, lw_bdd_and(b, x[2], x[3]), x[1]);
+    lw_bref f = lw_bdd_or(b, lw_bdd_and(b, x[0], g), lw_bdd_and(b, x[1],
+                                                                  x[3]));
+    lw_bref h = lw_bdd_and(b, lw_bdd_or(b, x[0], g), lw_bdd_or(b, x[1],
+                                                                 x[3]));
+    lw_diagram *d1 = freeze(b, f, 4), *d2 = NULL, *d3 = freeze(b, h, 4);
+    lw_error err = LW_ERROR_INIT;
+    assert_int_equal(lw_diagram_freeze_canonical(b, f, 4, identity_order,
+                                                 &d2, &err), LW_OK);
+    assert_int_equal(lw_diagram_same(d1, d2), 1);
+    assert_int_equal(lw_diagram_same(d1, d1), 1);
+    if (d3->n == d1->n)     /* different functions: never the same */
+        assert_int_equal(lw_diagram_same(d1, d3), 0);
+    /* x0 AND x1 against x0 OR x1: two nodes each, not the same */
+    lw_diagram *da = freeze(b, lw_bdd_and(b, x[0], x[1]), 4);
+    lw_diagram *dor = freeze(b, lw_bdd_or(b, x[0], x[1]), 4);
+    assert_int_equal(da->n, dor->n);
+    assert_int_equal(lw_diagram_same(da, dor), 0);
+    lw_diagram_free(da);
+    lw_diagram_free(dor);
+    /* the same shape with one level changed is not the same */
+    d2->level[d2->root] = d2->level[d2->root] + 1;
+    assert_int_equal(lw_diagram_same(d1, d2), 0);
+    lw_diagram_free(d1);
+    lw_diagram_free(d2);
+    lw_diagram_free(d3);
+    lw_bdd_free(b);
+}
+
 /* ---- the worked trace ------------------------------------------------- */
 
 /* 2-of-3 with order A<B<C, q = (0.01, 0.02, 0.05): the node structure,
@@ -631,6 +672,7 @@ int main(void)
         cmocka_unit_test(test_node_limit_prepare),
         cmocka_unit_test(test_zdd_rule),
         cmocka_unit_test(test_worked_trace),
+        cmocka_unit_test(test_diagram_same),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

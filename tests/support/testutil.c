@@ -206,37 +206,8 @@ void tu_same_family_both_ways(const lw_prepared *p, const char *what)
 void tu_same_diagram(const lw_diagram *a, const lw_diagram *b,
                      const char *what)
 {
-    if (a->n != b->n)
-        fail_msg("%s: diagrams of %u and %u nodes", what, a->n, b->n);
-    uint32_t *map = malloc((size_t)a->n * sizeof *map);
-    uint32_t *back = malloc((size_t)b->n * sizeof *back);
-    uint32_t *stack = malloc((size_t)a->n * 2 * sizeof *stack);
-    assert_true(map && back && stack);
-    memset(map, 0xff, (size_t)a->n * sizeof *map);
-    memset(back, 0xff, (size_t)b->n * sizeof *back);
-    map[0] = back[0] = 0;
-    map[1] = back[1] = 1;
-    size_t sp = 0;
-    stack[sp++] = a->root;
-    stack[sp++] = b->root;
-    while (sp) {
-        uint32_t y = stack[--sp], x = stack[--sp];
-        if (map[x] != UINT32_MAX || back[y] != UINT32_MAX) {
-            if (map[x] != y || back[y] != x)
-                fail_msg("%s: node %u maps to %u and to %u", what, x,
-                         map[x], y);
-            continue;
-        }
-        if (x <= 1 || y <= 1 || a->level[x] != b->level[y])
-            fail_msg("%s: nodes %u and %u differ", what, x, y);
-        map[x] = y;
-        back[y] = x;
-        stack[sp++] = a->hi[x];
-        stack[sp++] = b->hi[y];
-        stack[sp++] = a->lo[x];
-        stack[sp++] = b->lo[y];
-    }
-    free(map);
-    free(back);
-    free(stack);
+    int same = lw_diagram_same(a, b);
+    if (same != 1)
+        fail_msg("%s: diagrams of %u and %u nodes are %s", what, a->n, b->n,
+                 same < 0 ? "not compared (out of memory)" : "different");
 }
