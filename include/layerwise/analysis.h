@@ -55,6 +55,9 @@ typedef struct lw_prepared {
     uint32_t hazard_levels;     /* levels the hazard's structure reaches */
     double *q;                  /* point probability per level */
     double probability;         /* exact P(hazard) */
+    double *node_p;             /* the probability pass's value of every
+                                   diagram node (importances start from
+                                   it) */
 } lw_prepared;
 
 /* Compile, order every event (the hazard's first), build and freeze. */

@@ -123,6 +123,8 @@ typedef struct lw_diagram {
     uint32_t *hi, *lo;      /* children, local indices */
     uint32_t nlevels;       /* levels of the order */
     uint32_t *level_var;    /* level -> network variable (owned copy) */
+    uint32_t *lbeg;         /* nlevels + 1: level l's nodes are
+                               [lbeg[l], l ? lbeg[l - 1] : n) */
 } lw_diagram;
 
 lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
@@ -167,6 +169,16 @@ double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
  * (the nodes' probabilities, then the probabilities of reaching them). */
 double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
                                 double *birnbaum, double *wr);
+
+/* The same Birnbaum values given the node values a probability pass left
+ * ('node_p', d->n doubles, from lw_diagram_prob with the same q): one
+ * top-down pass, so importances cost one pass beyond the probability
+ * that every analysis computes anyway; 'reach' is d->n doubles of work
+ * space.  Equal to lw_diagram_birnbaum_into up to rounding (the two
+ * bottom-up passes write a node's value in different ways). */
+void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
+                               const double *node_p, double *birnbaum,
+                               double *reach);
 
 /* ---- minimal cut sets ------------------------------------------------ */
 

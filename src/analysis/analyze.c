@@ -166,12 +166,15 @@ static lw_status importance(const lw_prepared *p, lw_analysis *a,
         lw_free(b);
         return lw_error_oom(err);
     }
-    int ok = 0;
-    double P = lw_diagram_birnbaum(d, p->q, b, err, &ok);
-    if (!ok) {
+    /* one top-down pass from the probability pass's node values */
+    double *reach = lw_malloc((size_t)d->n * sizeof *reach);
+    if (!reach) {
         lw_free(b);
-        return LW_ENOMEM;
+        return lw_error_oom(err);
     }
+    lw_diagram_birnbaum_given(d, p->q, p->node_p, b, reach);
+    lw_free(reach);
+    double P = p->probability;
     double invP = P > 0 ? 1.0 / P : 0.0;    /* one division, not three */
     for (uint32_t l = 0; l < nl; l++) {
         lw_importance *r = &a->importance[l];

@@ -45,6 +45,7 @@ void lw_prepared_free(lw_prepared *p)
     lw_builder_free(p->builder);
     lw_network_free(p->net);
     lw_free(p->q);
+    lw_free(p->node_p);
     lw_free(p);
 }
 
@@ -124,7 +125,7 @@ lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
     for (uint32_t l = 0; l < p->nlevels; l++)
         p->q[l] = net->vars[lv[l]].p;
     p->probability = lw_diagram_prob(p->diagram, p->q, work);
-    lw_free(work);
+    p->node_p = work;
     *out = p;
     return LW_OK;
 fail:

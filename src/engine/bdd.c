@@ -753,10 +753,13 @@ static lw_status freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
     d->lo = lw_malloc(n * sizeof *d->lo);
     d->nlevels = nlevels;
     d->level_var = lw_malloc((nlevels + 1) * sizeof *d->level_var);
-    if (!d->level || !d->hi || !d->lo || !d->level_var)
+    d->lbeg = lw_malloc(((size_t)nlevels + 1) * sizeof *d->lbeg);
+    if (!d->level || !d->hi || !d->lo || !d->level_var || !d->lbeg)
         goto oom;
     if (nlevels)
         memcpy(d->level_var, level_var, nlevels * sizeof *level_var);
+    for (uint32_t l = 0; l <= nlevels; l++)
+        d->lbeg[l] = (uint32_t)n;       /* all empty unless set below */
     /* Number the reachable nodes level by level, deepest first (a
      * counting sort; increasing index within a level).  Children lie on
      * deeper levels, so this is still a topological order, and nodes that
@@ -775,7 +778,7 @@ static lw_status freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
         uint32_t pos = 2;
         for (uint32_t l = nlevels; l-- > 0;) {
             uint32_t c = start[l];
-            start[l] = pos;
+            start[l] = d->lbeg[l] = pos;
             pos += c;
         }
         if (!canonical) {
@@ -882,6 +885,7 @@ void lw_diagram_free(lw_diagram *d)
     lw_free(d->hi);
     lw_free(d->lo);
     lw_free(d->level_var);
+    lw_free(d->lbeg);
     lw_free(d);
 }
 
@@ -936,6 +940,51 @@ double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
     if (d->n > 2)
         birnbaum[cur] += acc;
     return P;
+}
+
+void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
+                               const double *node_p, double *birnbaum,
+                               double *reach)
+{
+    /* One top-down pass, level by level from the top: the probability of
+     * reaching each node, pushed into its children, and each node's share
+     * reach x (P(hi) - P(lo)), with P(hi) and P(lo) read from the
+     * probability pass.  A level's nodes have no children on their own
+     * level, so they are taken two at a time with two sums. */
+    const uint32_t *hi = d->hi, *lo = d->lo;
+    memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
+    memset(reach, 0, d->n * sizeof *reach);
+    if (d->n <= 2)
+        return;
+    reach[d->root] = 1.0;
+    for (uint32_t l = 0; l < d->nlevels; l++) {
+        uint32_t beg = d->lbeg[l], end = l ? d->lbeg[l - 1] : d->n;
+        if (beg >= end)
+            continue;
+        double p = q[l], acc0 = 0.0, acc1 = 0.0;
+        uint32_t i = end;
+        while (i >= beg + 2) {
+            i -= 2;
+            uint32_t h1 = hi[i + 1], o1 = lo[i + 1], h0 = hi[i], o0 = lo[i];
+            double r1 = reach[i + 1], r0 = reach[i];
+            double a1 = r1 * p, a0 = r0 * p;
+            reach[h1] += a1;
+            reach[o1] += r1 - a1;
+            reach[h0] += a0;
+            reach[o0] += r0 - a0;
+            acc1 += r1 * (node_p[h1] - node_p[o1]);
+            acc0 += r0 * (node_p[h0] - node_p[o0]);
+        }
+        if (i > beg) {
+            i--;
+            uint32_t h0 = hi[i], o0 = lo[i];
+            double r0 = reach[i], a0 = r0 * p;
+            reach[h0] += a0;
+            reach[o0] += r0 - a0;
+            acc0 += r0 * (node_p[h0] - node_p[o0]);
+        }
+        birnbaum[l] = acc0 + acc1;
+    }
 }
 
 double lw_diagram_birnbaum(const lw_diagram *d, const double *q,

@@ -639,9 +639,10 @@ static lw_status to_diagram(builder *B, uint32_t root, uint32_t nlevels,
         d->hi = lw_malloc(n * sizeof *d->hi);
         d->lo = lw_malloc(n * sizeof *d->lo);
         d->level_var = lw_malloc((nlevels + 1) * sizeof *d->level_var);
+        d->lbeg = lw_malloc(((size_t)nlevels + 1) * sizeof *d->lbeg);
     }
     if (!d || !start || !map || !d->level || !d->hi || !d->lo ||
-        !d->level_var) {
+        !d->level_var || !d->lbeg) {
         lw_free(start);
         lw_free(map);
         lw_diagram_free(d);
@@ -654,9 +655,10 @@ static lw_status to_diagram(builder *B, uint32_t root, uint32_t nlevels,
     for (size_t i = 2; i < n; i++)
         start[flat(B, i)->lv]++;
     uint32_t pos = 2;
+    d->lbeg[nlevels] = (uint32_t)n;
     for (uint32_t l = nlevels; l-- > 0;) {
         uint32_t c = start[l];
-        start[l] = pos;
+        start[l] = d->lbeg[l] = pos;
         pos += c;
     }
     map[0] = 0;
