@@ -26,6 +26,7 @@
  */
 #include "layerwise/bdd.h"
 
+#include <float.h>
 #include <math.h>
 #include <string.h>
 
@@ -421,13 +422,17 @@ typedef struct state {
 } state;
 
 /* The search pops the state whose best completion is most probable.
- * Bounds are compared to 40 bits (about 1e-12 relative): equal sets
+ * Bounds are compared to 40 bits (about 1e-12 relative; subnormal ones
+ * exactly, since clearing their low bits would clear the value): equal sets
  * (a vote over events of one probability has billions) and sets equal
  * but for rounding then tie, and a tie goes to the state nearest its end
  * (the deepest node), then the newest, so that a search among equals
  * runs straight down to a set instead of widening over all of them. */
 static double bound_key(double x)
 {
+    /* below DBL_MIN the mantissa bits are the value itself: keep it */
+    if (!(x >= DBL_MIN))
+        return x;
     uint64_t u;
     memcpy(&u, &x, sizeof u);
     u &= ~(uint64_t)0xfff;

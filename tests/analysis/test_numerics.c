@@ -289,6 +289,20 @@ static void test_denormal(void **state)
             assert_close(a->cut_sets[i].share, 0x1p-1074 / 1e-300, 1e-6);
     lw_analysis_free(a);
     lw_model_free(m);
+
+    /* two subnormal cut sets (the fuzzer's case): listed most likely
+     * first, 1e-320 before 2^-1074 (the 40-bit comparison of the search
+     * cleared both to zero and listed them the other way round) */
+    m = tu_load(HEAD
+        "<hazard id=\"or\"><any><error id=\"e\" p=\"4.9e-324\"/>"
+        "<error id=\"f\" p=\"1e-320\"/></any></hazard>\n"
+        END);
+    a = analyze(m, 0);
+    assert_int_equal(a->ncut_sets, 2);
+    assert_true(a->cut_sets[0].probability > a->cut_sets[1].probability);
+    assert_true(a->cut_sets[1].probability == 0x1p-1074);
+    lw_analysis_free(a);
+    lw_model_free(m);
 }
 
 /* 2-of-3 at 1e-100: closed form 3q^2(1 - q) + q^3 = 3e-200 - 2e-300,
