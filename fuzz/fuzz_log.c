@@ -24,6 +24,9 @@
 #include "layerwise/model.h"
 #include "layerwise/render_incident.h"
 
+#define FUZZ_NAME "fuzz_log"
+#include "fuzz_common.h"
+
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
 static const char model_xml[] =
@@ -63,43 +66,8 @@ static const char model_xml[] =
     "level=\"high\"/>\n"
     "</safety-model>\n";
 
-static FILE *devnull(void)
-{
-    static FILE *f;
-    if (!f)
-        f = fopen("/dev/null", "w");
-    if (!f)
-        abort();
-    return f;
-}
 
-#define CHECK(cond)                                                        \
-    do {                                                                   \
-        if (!(cond)) {                                                     \
-            fprintf(stderr, "fuzz_log: broken contract: %s (%s:%d)\n",    \
-                    #cond, __FILE__, __LINE__);                            \
-            abort();                                                       \
-        }                                                                  \
-    } while (0)
 
-static void check_call(lw_status st, const void *result, lw_error *err)
-{
-    if (st == LW_OK) {
-        CHECK(result != NULL);
-    } else {
-        CHECK(result == NULL);
-        CHECK(err->code != LW_OK);
-        CHECK(err->count > 0 || err->oom);
-        CHECK(st != LW_EINTERNAL);
-    }
-    for (size_t i = 0; i < err->count; i++) {
-        CHECK(err->items[i].message != NULL);
-        CHECK(strchr(err->items[i].message, '\n') == NULL);
-    }
-    lw_error_clear(err);
-}
-
-static int is_prob(double p) { return p >= 0.0 && p <= 1.0; }
 
 static lw_model *model(void)
 {

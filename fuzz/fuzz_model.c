@@ -44,49 +44,16 @@
 #include "layerwise/target.h"
 #include "layerwise/uncertainty.h"
 
+#define FUZZ_NAME "fuzz_model"
+#include "fuzz_common.h"
+
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 
 #define MAX_HAZARDS 3       /* hazards analysed per input */
 #define MAX_VARIANTS 2      /* variants analysed per hazard (besides none) */
 
-static FILE *devnull(void)
-{
-    static FILE *f;
-    if (!f)
-        f = fopen("/dev/null", "w");
-    if (!f)
-        abort();
-    return f;
-}
 
-#define CHECK(cond)                                                        \
-    do {                                                                   \
-        if (!(cond)) {                                                     \
-            fprintf(stderr, "fuzz_model: broken contract: %s (%s:%d)\n",  \
-                    #cond, __FILE__, __LINE__);                            \
-            abort();                                                       \
-        }                                                                  \
-    } while (0)
 
-static int is_prob(double p) { return p >= 0.0 && p <= 1.0; }
-
-/* After a call: status and result agree, a failure says why. */
-static void check_call(lw_status st, const void *result, lw_error *err)
-{
-    if (st == LW_OK) {
-        CHECK(result != NULL);
-    } else {
-        CHECK(result == NULL);
-        CHECK(err->code != LW_OK);
-        CHECK(err->count > 0 || err->oom);
-        CHECK(st != LW_EINTERNAL);
-    }
-    for (size_t i = 0; i < err->count; i++) {
-        CHECK(err->items[i].message != NULL);
-        CHECK(strchr(err->items[i].message, '\n') == NULL);
-    }
-    lw_error_clear(err);
-}
 
 static void check_analysis(const lw_analysis *a)
 {
