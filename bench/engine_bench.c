@@ -3,14 +3,16 @@
  *
  *   engine-bench MODEL.xml [REPEATS]
  *
- * Loads and prepares the model's first hazard, then times (median of
- * REPEATS, warm buffers): one probability pass; all Birnbaum values (one
- * bottom-up and one top-down pass, and the top-down pass alone from the
- * probability pass's node values); the Fussell-Vesely pass over the cut
- * set family; everything analyze does per event; building the cut-set
- * family (from the network, as analyze does, and from the BDD); and the
- * ten most probable cut sets.  Ratios to the probability
- * pass are printed, since absolute times depend on the machine.
+ * Loads and prepares the model's first hazard, then times (REPEATS
+ * repeats, warm buffers): one probability pass; the same pass keeping
+ * each node's P(hi) - P(lo), as prepare runs it; all Birnbaum values (the
+ * top-down pass alone from those differences, and with its own bottom-up
+ * pass); the Fussell-Vesely pass over the cut set family; everything
+ * analyze does per event; building the cut-set family (from the network,
+ * as analyze does, and from the BDD); and the ten most probable cut sets.
+ * Ratios to the probability pass timed in the same repeat are printed
+ * (median and quartiles), since absolute times depend on the machine and
+ * a shared host's speed drifts.
  */
 #define _POSIX_C_SOURCE 200809L
 #include <stdio.h>
@@ -69,23 +71,10 @@ int main(int argc, char **argv)
     double t_prepare = now() - t0;
     const lw_diagram *d = p->diagram;
     double *w = malloc(d->n * sizeof *w), *r = malloc(2 * d->n * sizeof *r);
+    double *df = malloc(d->n * sizeof *df);
     double *b = malloc((d->nlevels + 1) * sizeof *b);
     double *fv = malloc((d->nlevels + 1) * sizeof *fv);
-    double *t = malloc((size_t)reps * sizeof *t);
     double sink = 0;
-
-    for (int i = 0; i < reps; i++) {
-        t0 = now();
-        sink += lw_diagram_prob(d, p->q, w);
-        t[i] = now() - t0;
-    }
-    double t_prob = median(t, reps);
-    for (int i = 0; i < reps; i++) {
-        t0 = now();
-        sink += lw_diagram_birnbaum_into(d, p->q, b, r);
-        t[i] = now() - t0;
-    }
-    double t_birn = median(t, reps);
 
     lw_cut_family *f = NULL;
     t0 = now();
@@ -102,22 +91,33 @@ int main(int argc, char **argv)
         return 1;
     }
     double t_fam = now() - t0;
+
+    /* Each repeat times one probability pass and, right after it, each
+     * other pass; a ratio is taken within the repeat, so a host that
+     * speeds up or slows down between repeats moves both sides. */
+    enum { PROB, DIFF, GIVEN, BOTH, FV, IMP, NT };
+    double *t = malloc((size_t)reps * NT * sizeof *t);
+    double *ratio = malloc((size_t)reps * NT * sizeof *ratio);
     for (int i = 0; i < reps; i++) {
+        double tt[NT];
+        t0 = now();
+        sink += lw_diagram_prob(d, p->q, w);
+        tt[PROB] = now() - t0;
+        t0 = now();
+        sink += lw_diagram_prob_diff(d, p->q, w, df);
+        tt[DIFF] = now() - t0;
+        t0 = now();
+        lw_diagram_birnbaum_given(d, p->q, df, b, r);
+        tt[GIVEN] = now() - t0;
+        t0 = now();
+        sink += lw_diagram_birnbaum_into(d, p->q, b, r);
+        tt[BOTH] = now() - t0;
         t0 = now();
         lw_cut_family_fussell_vesely(f, fv, &err);
-        t[i] = now() - t0;
-    }
-    double t_fv = median(t, reps);
-    for (int i = 0; i < reps; i++) {
+        tt[FV] = now() - t0;
         t0 = now();
-        lw_diagram_birnbaum_given(d, p->q, p->node_p, b, r);
-        t[i] = now() - t0;
-    }
-    double t_given = median(t, reps);
-    for (int i = 0; i < reps; i++) {
-        t0 = now();
-        /* as analyze.c does: from the probability pass's node values */
-        lw_diagram_birnbaum_given(d, p->q, p->node_p, b, r);
+        /* as analyze.c does, from the differences prepare kept */
+        lw_diagram_birnbaum_given(d, p->q, p->node_diff, b, r);
         lw_cut_family_fussell_vesely(f, fv, &err);
         double P = p->probability, invP = 1.0 / P;
         for (uint32_t l = 0; l < p->hazard_levels; l++) {
@@ -125,9 +125,22 @@ int main(int argc, char **argv)
             sink += b[l] * q * invP + pt * invP + (pf > 0 ? P / pf : 0) +
                     fv[l];
         }
-        t[i] = now() - t0;
+        /* and what keeping the differences added to the probability pass */
+        tt[IMP] = now() - t0 + (tt[DIFF] - tt[PROB]);
+        for (int k = 0; k < NT; k++) {
+            t[k * reps + i] = tt[k];
+            ratio[k * reps + i] = tt[k] / tt[PROB];
+        }
     }
-    double t_imp = median(t, reps);
+    double med[NT], q1[NT], q3[NT];
+    for (int k = 0; k < NT; k++) {
+        double *x = ratio + k * reps;
+        qsort(x, (size_t)reps, sizeof *x, cmp_double);
+        q1[k] = x[reps / 4];
+        q3[k] = x[(3 * reps) / 4];
+        med[k] = median(x, reps);
+        t[k] = median(t + k * reps, reps);
+    }
     lw_level_set *sets = NULL;
     size_t ns = 0;
     bool more = false;
@@ -142,16 +155,25 @@ int main(int argc, char **argv)
     printf("load             %9.4f s\n", t_load);
     printf("prepare          %9.4f s  (compile, order, build, freeze)\n",
            t_prepare);
-    printf("probability pass %9.6f s  1.00x\n", t_prob);
-    printf("all Birnbaum     %9.6f s  %.2fx  (both passes; from the "
-           "probability pass's node values %.2fx)\n", t_birn, t_birn / t_prob,
-           t_given / t_prob);
-    printf("Fussell-Vesely   %9.6f s  %.2fx\n", t_fv, t_fv / t_prob);
-    printf("all importances  %9.6f s  %.2fx  (Birnbaum, criticality, RAW, "
-           "RRW, FV, given the probability pass, as analyze does)\n", t_imp,
-           t_imp / t_prob);
+    printf("(times: medians of %d repeats; ratios: median [quartiles] of "
+           "the ratio to the probability pass timed in the same repeat)\n",
+           reps);
+    printf("probability pass %9.6f s  1.00x\n", t[PROB]);
+    printf("  keeping P(hi)-P(lo) %9.6f s  %.2fx [%.2f-%.2f]  (as prepare "
+           "does)\n", t[DIFF], med[DIFF], q1[DIFF], q3[DIFF]);
+    printf("all Birnbaum     %9.6f s  %.2fx [%.2f-%.2f]  (the top-down pass "
+           "from the differences)\n", t[GIVEN], med[GIVEN], q1[GIVEN],
+           q3[GIVEN]);
+    printf("  with its own bottom-up pass %9.6f s  %.2fx [%.2f-%.2f]\n",
+           t[BOTH], med[BOTH], q1[BOTH], q3[BOTH]);
+    printf("Fussell-Vesely   %9.6f s  %.2fx [%.2f-%.2f]\n", t[FV], med[FV],
+           q1[FV], q3[FV]);
+    printf("all importances  %9.6f s  %.2fx [%.2f-%.2f]  (Birnbaum, "
+           "criticality, RAW, RRW, FV as analyze does, plus what keeping the "
+           "differences added to the probability pass)\n", t[IMP], med[IMP],
+           q1[IMP], q3[IMP]);
     printf("cut-set family   %9.4f s  %.1fx  (from the network; from the "
-           "BDD %.4f s)\n", t_fam, t_fam / t_prob, t_fam_bdd);
+           "BDD %.4f s)\n", t_fam, t_fam / t[PROB], t_fam_bdd);
     printf("top 10 cut sets  %9.6f s\n", t_top);
     if (sink == 12345.678)
         printf("\n");
@@ -161,6 +183,8 @@ int main(int argc, char **argv)
     lw_model_free(m);
     free(w);
     free(r);
+    free(df);
+    free(ratio);
     free(b);
     free(fv);
     free(t);

@@ -55,9 +55,9 @@ typedef struct lw_prepared {
     uint32_t hazard_levels;     /* levels the hazard's structure reaches */
     double *q;                  /* point probability per level */
     double probability;         /* exact P(hazard) */
-    double *node_p;             /* the probability pass's value of every
-                                   diagram node (importances start from
-                                   it) */
+    double *node_diff;          /* P(hi) - P(lo) of every diagram node,
+                                   kept by the probability pass
+                                   (importances start from it) */
 } lw_prepared;
 
 /* Compile, order every event (the hazard's first), build and freeze. */

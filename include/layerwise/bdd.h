@@ -125,6 +125,9 @@ typedef struct lw_diagram {
     uint32_t *level_var;    /* level -> network variable (owned copy) */
     uint32_t *lbeg;         /* nlevels + 1: level l's nodes are
                                [lbeg[l], l ? lbeg[l - 1] : n) */
+    uint32_t edge_span;     /* longest edge to a non-terminal child:
+                               max of parent index - child index (0 when
+                               there is none) */
 } lw_diagram;
 
 lw_status lw_diagram_freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
@@ -165,19 +168,25 @@ double lw_diagram_prob(const lw_diagram *d, const double *q, double *work);
  * one top-down pass; 'birnbaum' receives d->nlevels values.  Returns P. */
 double lw_diagram_birnbaum(const lw_diagram *d, const double *q,
                            double *birnbaum, lw_error *err, int *ok);
-/* The same with caller-owned work space: 'wr' holds 2 * d->n doubles
- * (the nodes' probabilities, then the probabilities of reaching them). */
+/* The same with caller-owned work space: 'wr' holds 2 * d->n doubles. */
 double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
                                 double *birnbaum, double *wr);
 
-/* The same Birnbaum values given the node values a probability pass left
- * ('node_p', d->n doubles, from lw_diagram_prob with the same q): one
- * top-down pass, so importances cost one pass beyond the probability
- * that every analysis computes anyway; 'reach' is d->n doubles of work
- * space.  Equal to lw_diagram_birnbaum_into up to rounding (the two
- * bottom-up passes write a node's value in different ways). */
+/* lw_diagram_prob's pass (the same P to the last bit) that also keeps each
+ * node's difference P(hi) - P(lo) in 'diff' (d->n doubles; 0 for the
+ * terminals), which is all lw_diagram_birnbaum_given needs from it. */
+double lw_diagram_prob_diff(const lw_diagram *d, const double *q, double *w,
+                            double *diff);
+
+/* The same Birnbaum values given the differences a probability pass kept
+ * ('node_diff', from lw_diagram_prob_diff with the same q): one top-down
+ * pass, so importances cost one pass beyond the probability that every
+ * analysis computes anyway; 'reach' is d->n doubles of work space, of
+ * which the pass uses only a ring a little longer than d->edge_span when
+ * the diagram has more than LW_RING_FROM nodes. */
+#define LW_RING_FROM 131072u
 void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
-                               const double *node_p, double *birnbaum,
+                               const double *node_diff, double *birnbaum,
                                double *reach);
 
 /* ---- minimal cut sets ------------------------------------------------ */

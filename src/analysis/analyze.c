@@ -166,13 +166,13 @@ static lw_status importance(const lw_prepared *p, lw_analysis *a,
         lw_free(b);
         return lw_error_oom(err);
     }
-    /* one top-down pass from the probability pass's node values */
+    /* one top-down pass from the probability pass's differences */
     double *reach = lw_malloc((size_t)d->n * sizeof *reach);
     if (!reach) {
         lw_free(b);
         return lw_error_oom(err);
     }
-    lw_diagram_birnbaum_given(d, p->q, p->node_p, b, reach);
+    lw_diagram_birnbaum_given(d, p->q, p->node_diff, b, reach);
     lw_free(reach);
     double P = p->probability;
     double invP = P > 0 ? 1.0 / P : 0.0;    /* one division, not three */

@@ -45,7 +45,7 @@ void lw_prepared_free(lw_prepared *p)
     lw_builder_free(p->builder);
     lw_network_free(p->net);
     lw_free(p->q);
-    lw_free(p->node_p);
+    lw_free(p->node_diff);
     lw_free(p);
 }
 
@@ -116,7 +116,8 @@ lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
         goto fail;
     p->q = lw_malloc((p->nlevels + 1) * sizeof *p->q);
     double *work = lw_malloc(p->diagram->n * sizeof *work);
-    if (!p->q || !work) {
+    p->node_diff = lw_malloc(p->diagram->n * sizeof *p->node_diff);
+    if (!p->q || !work || !p->node_diff) {
         lw_free(work);
         st = lw_error_oom(err);
         goto fail;
@@ -124,8 +125,9 @@ lw_status lw_prepare(const lw_model *m, size_t variant, size_t hazard,
     const uint32_t *lv = lw_builder_level_var(p->builder);
     for (uint32_t l = 0; l < p->nlevels; l++)
         p->q[l] = net->vars[lv[l]].p;
-    p->probability = lw_diagram_prob(p->diagram, p->q, work);
-    p->node_p = work;
+    p->probability = lw_diagram_prob_diff(p->diagram, p->q, work,
+                                          p->node_diff);
+    lw_free(work);
     *out = p;
     return LW_OK;
 fail:

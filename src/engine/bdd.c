@@ -808,14 +808,21 @@ static lw_status freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
             lw_free(stack);
         }
         lw_free(start);
+        uint32_t es = 0;
         for (size_t i = 2; i <= f; i++) {
             if (map[i] == UINT32_MAX)
                 continue;
-            uint32_t k = map[i];
+            uint32_t k = map[i], h = map[b->nodes[i].hi],
+                     o = map[b->nodes[i].lo];
             d->level[k] = b->nodes[i].level;
-            d->hi[k] = map[b->nodes[i].hi];
-            d->lo[k] = map[b->nodes[i].lo];
+            d->hi[k] = h;
+            d->lo[k] = o;
+            if (h > 1 && k - h > es)
+                es = k - h;
+            if (o > 1 && k - o > es)
+                es = k - o;
         }
+        d->edge_span = es;
     }
     d->root = f <= 1 ? f : map[f];
     lw_free(map);
@@ -901,62 +908,42 @@ double lw_diagram_prob(const lw_diagram *d, const double *q, double *w)
     return w[d->root];
 }
 
+double lw_diagram_prob_diff(const lw_diagram *d, const double *q, double *w,
+                            double *diff)
+{
+    /* lw_diagram_prob's pass, written the same way (so P is the same to
+     * the last bit), keeping P(hi) - P(lo) while both are at hand: a
+     * sequential store beside the node value */
+    w[0] = 0.0;
+    w[1] = 1.0;
+    diff[0] = diff[1] = 0.0;
+    const uint32_t *restrict lv = d->level, *restrict hi = d->hi,
+                             *restrict lo = d->lo;
+    double *restrict dd = diff;
+    for (uint32_t i = 2; i < d->n; i++) {
+        double p = q[lv[i]], h = w[hi[i]], o = w[lo[i]];
+        w[i] = p * h + (1.0 - p) * o;
+        dd[i] = h - o;
+    }
+    return w[d->root];
+}
+
 double lw_diagram_birnbaum_into(const lw_diagram *d, const double *q,
                                 double *birnbaum, double *wr)
 {
-    /* Bottom-up: node probabilities into A, and each node's difference
-     * P(hi) - P(lo) into B while both are at hand.  Top-down: A is reused
-     * for the probability of reaching each node, and B is read in order,
-     * so this pass makes no random reads. */
-    const uint32_t *lv = d->level, *hi = d->hi, *lo = d->lo;
-    double *A = wr, *B = wr + d->n;
-    A[0] = 0.0;
-    A[1] = 1.0;
-    for (uint32_t i = 2; i < d->n; i++) {
-        double p = q[lv[i]], h = A[hi[i]], o = A[lo[i]];
-        A[i] = o + p * (h - o);
-        B[i] = h - o;
-    }
-    double P = A[d->root];
-    memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
-    memset(A, 0, d->n * sizeof *A);
-    A[d->root] = 1.0;
-    /* nodes of one level are contiguous: sum a level's share in a
-     * register and store it once */
-    uint32_t cur = d->n > 2 ? lv[d->n - 1] : 0;
-    double acc = 0.0;
-    for (uint32_t i = d->n; i-- > 2;) {
-        uint32_t l = lv[i];
-        if (l != cur) {
-            birnbaum[cur] += acc;
-            acc = 0.0;
-            cur = l;
-        }
-        double ri = A[i], a = ri * q[l];
-        A[hi[i]] += a;
-        A[lo[i]] += ri - a;
-        acc += ri * B[i];
-    }
-    if (d->n > 2)
-        birnbaum[cur] += acc;
+    double P = lw_diagram_prob_diff(d, q, wr, wr + d->n);
+    lw_diagram_birnbaum_given(d, q, wr + d->n, birnbaum, wr);
     return P;
 }
 
-void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
-                               const double *node_p, double *birnbaum,
-                               double *reach)
+/* The top-down pass of lw_diagram_birnbaum_given; slot(i) = i & mk.  With
+ * ring = 0 every node has its own slot and nothing needs clearing. */
+static inline void push_down(const lw_diagram *d, const double *q,
+                             const double *D, double *birnbaum,
+                             double *reach, uint32_t mk, int ring)
 {
-    /* One top-down pass, level by level from the top: the probability of
-     * reaching each node, pushed into its children, and each node's share
-     * reach x (P(hi) - P(lo)), with P(hi) and P(lo) read from the
-     * probability pass.  A level's nodes have no children on their own
-     * level, so they are taken two at a time with two sums. */
     const uint32_t *hi = d->hi, *lo = d->lo;
-    memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
-    memset(reach, 0, d->n * sizeof *reach);
-    if (d->n <= 2)
-        return;
-    reach[d->root] = 1.0;
+    reach[d->root & mk] = 1.0;
     for (uint32_t l = 0; l < d->nlevels; l++) {
         uint32_t beg = d->lbeg[l], end = l ? d->lbeg[l - 1] : d->n;
         if (beg >= end)
@@ -966,24 +953,71 @@ void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
         while (i >= beg + 2) {
             i -= 2;
             uint32_t h1 = hi[i + 1], o1 = lo[i + 1], h0 = hi[i], o0 = lo[i];
-            double r1 = reach[i + 1], r0 = reach[i];
+            double r1 = reach[(i + 1) & mk], r0 = reach[i & mk];
+            if (ring) {
+                reach[(i + 1) & mk] = 0.0;
+                reach[i & mk] = 0.0;
+            }
             double a1 = r1 * p, a0 = r0 * p;
-            reach[h1] += a1;
-            reach[o1] += r1 - a1;
-            reach[h0] += a0;
-            reach[o0] += r0 - a0;
-            acc1 += r1 * (node_p[h1] - node_p[o1]);
-            acc0 += r0 * (node_p[h0] - node_p[o0]);
+            if (h1 > 1)
+                reach[h1 & mk] += a1;
+            if (o1 > 1)
+                reach[o1 & mk] += r1 - a1;
+            if (h0 > 1)
+                reach[h0 & mk] += a0;
+            if (o0 > 1)
+                reach[o0 & mk] += r0 - a0;
+            acc1 += r1 * D[i + 1];
+            acc0 += r0 * D[i];
         }
         if (i > beg) {
             i--;
             uint32_t h0 = hi[i], o0 = lo[i];
-            double r0 = reach[i], a0 = r0 * p;
-            reach[h0] += a0;
-            reach[o0] += r0 - a0;
-            acc0 += r0 * (node_p[h0] - node_p[o0]);
+            double r0 = reach[i & mk], a0 = r0 * p;
+            if (ring)
+                reach[i & mk] = 0.0;
+            if (h0 > 1)
+                reach[h0 & mk] += a0;
+            if (o0 > 1)
+                reach[o0 & mk] += r0 - a0;
+            acc0 += r0 * D[i];
         }
         birnbaum[l] = acc0 + acc1;
+    }
+}
+
+void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
+                               const double *node_diff, double *birnbaum,
+                               double *reach)
+{
+    /* One top-down pass, level by level from the top: the probability of
+     * reaching each node is pushed into its children, and the node adds
+     * reach x (P(hi) - P(lo)) to its level's sum.  A level's nodes have
+     * no children on their own level, so they are taken two at a time
+     * with two sums.  Nothing is pushed into a terminal: its reach is
+     * never read, and in a monotone diagram a fifth of all nodes have
+     * hi = 1, whose pushes would form one long chain through memory.
+     *
+     * A diagram too big for the cache keeps its reach values in a ring of
+     * R slots, node i in slot i mod R, with R a power of two above the
+     * longest edge: a node's first push comes from a parent at most
+     * edge_span above it, after the node R above it (the slot's last
+     * user) was read and its slot cleared, and every node waiting for its
+     * turn lies within R of the sweep.  In layered networks edges are
+     * short, so the ring stays in cache and the pass streams only the
+     * children and the differences. */
+    memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
+    if (d->n <= 2)
+        return;
+    uint32_t ring = 1;
+    while (ring <= d->edge_span && ring < d->n)
+        ring <<= 1;
+    if (d->n > LW_RING_FROM && ring < d->n / 4) {
+        memset(reach, 0, ring * sizeof *reach);
+        push_down(d, q, node_diff, birnbaum, reach, ring - 1, 1);
+    } else {
+        memset(reach, 0, d->n * sizeof *reach);
+        push_down(d, q, node_diff, birnbaum, reach, UINT32_MAX, 0);
     }
 }
 

@@ -307,15 +307,20 @@ static void test_random_canonical(void **state)
                 fail_msg("Birnbaum of level %d = %.17g, expected %.17g", l,
                          bir[l], p1 - p0);
         }
-        /* the same from the probability pass's node values (w) */
+        /* the same from the differences a probability pass keeps: the
+         * pass gives lw_diagram_prob's P to the last bit */
         double bg[6], *reach = malloc(d->n * sizeof *reach);
+        double *diff = malloc(d->n * sizeof *diff);
         assert_non_null(reach);
-        lw_diagram_birnbaum_given(d, q, w, bg, reach);
+        assert_non_null(diff);
+        assert_true(lw_diagram_prob_diff(d, q, reach, diff) == P);
+        lw_diagram_birnbaum_given(d, q, diff, bg, reach);
         for (int l = 0; l < 6; l++)
             if (fabs(bg[l] - bir[l]) > 1e-14)
                 fail_msg("Birnbaum of level %d from the probability pass = "
                          "%.17g, from its own pass %.17g", l, bg[l], bir[l]);
         free(reach);
+        free(diff);
         /* the frozen copy: root last, children before parents */
         assert_true(d->root == (f <= 1 ? f : d->n - 1));
         for (uint32_t i = 2; i < d->n; i++) {

@@ -4,7 +4,8 @@
  * modules nested with the same first event, modules tested with children
  * other than the leaves, votes over modules, constant modules, splicing
  * of OR under OR and AND under AND, shared events that stop a gate from
- * being a module, and a chain of 100,000 nested blocks.
+ * being a module, and a chain of 100,000 nested blocks.  Also the
+ * Birnbaum pass on a diagram big enough to keep reach values in a ring.
  *
  * Probabilities pinned here are closed forms (independent events).
  */
@@ -168,6 +169,96 @@ static void test_deep_chain(void **state)
     free(xml);
 }
 
+/* Birnbaum values of a diagram too big for the cache, whose reach values
+ * the top-down pass keeps in a ring (engine/bdd.c), against the closed
+ * form and against the same pass with one slot per node.  The hazard is
+ * the OR of n blocks, each a 2-of-3 vote: the diagram has 4n nodes (two
+ * on each block's second level, so the pass takes nodes both one and two
+ * at a time) with short edges, so the ring has a few slots.
+ *   P = 1 - prod_j (1 - P_j), P_j = ab + ac + bc - 2abc;
+ *   B(a_j) = (b + c - 2bc) prod_{m != j} (1 - P_m)   (closed form) */
+static void test_birnbaum_ring(void **state)
+{
+    (void)state;
+    int n = 50000;
+    size_t cap = (size_t)n * 400 + 256, len = 0;
+    char *xml = malloc(cap);
+    double *pj = malloc((size_t)n * 3 * sizeof *pj);
+    assert_non_null(xml);
+    assert_non_null(pj);
+    len += (size_t)snprintf(xml + len, cap - len, HEAD);
+    for (int j = 0; j < 3 * n; j++) {
+        pj[j] = 0.05 + 0.9 * (double)((j * 7919) % 1000) / 1000.0;
+        len += (size_t)snprintf(xml + len, cap - len,
+                                "<error id=\"e%d\" p=\"%.17g\"/>\n", j, pj[j]);
+    }
+    for (int j = 0; j < n; j++)
+        len += (size_t)snprintf(xml + len, cap - len,
+                                "<block id=\"b%d\"><vote k=\"2\">"
+                                "<ref to=\"e%d\"/><ref to=\"e%d\"/>"
+                                "<ref to=\"e%d\"/></vote></block>\n", j, 3 * j, 3 * j + 1, 3 * j + 2);
+    len += (size_t)snprintf(xml + len, cap - len, "<hazard id=\"h\"><any>");
+    for (int j = 0; j < n; j++)
+        len += (size_t)snprintf(xml + len, cap - len, "<ref to=\"b%d\"/>", j);
+    snprintf(xml + len, cap - len, "</any></hazard>" END);
+    lw_model *m = tu_load(xml);
+    free(xml);
+    lw_error err = LW_ERROR_INIT;
+    lw_prepared *p = NULL;
+    assert_int_equal(lw_prepare(m, LW_NONE, 0, NULL, &p, &err), LW_OK);
+    const lw_diagram *d = p->diagram;
+    assert_true(d->n > LW_RING_FROM);
+    assert_true(d->edge_span <= 8);
+    double *b = malloc(d->nlevels * sizeof *b);
+    double *b_full = malloc(d->nlevels * sizeof *b_full);
+    double *reach = malloc(d->n * sizeof *reach);
+    assert_non_null(b);
+    assert_non_null(b_full);
+    assert_non_null(reach);
+    lw_diagram_birnbaum_given(d, p->q, p->node_diff, b, reach);
+    /* one slot per node: the same diagram with its longest edge claimed
+     * to span it all; the same operations in the same order */
+    lw_diagram whole = *d;
+    whole.edge_span = d->n - 1;
+    lw_diagram_birnbaum_given(&whole, p->q, p->node_diff, b_full, reach);
+    assert_memory_equal(b, b_full, d->nlevels * sizeof *b);
+    /* closed form: log of prod_j (1 - P_j), then each event's value */
+    double log_rest = 0.0;
+    double *P = malloc((size_t)n * sizeof *P);
+    assert_non_null(P);
+    for (int j = 0; j < n; j++) {
+        double a = pj[3 * j], bb = pj[3 * j + 1], c = pj[3 * j + 2];
+        P[j] = a * bb + a * c + bb * c - 2 * a * bb * c;
+        log_rest += log1p(-P[j]);
+    }
+    assert_true(tu_close(p->probability, -expm1(log_rest), 1e-12));
+    const lw_network *net = p->net;
+    for (uint32_t l = 0; l < d->nlevels; l++) {
+        int e = atoi(net->vars[d->level_var[l]].name + 1);
+        int j = e / 3;
+        double x = 0.0, y = 0.0;
+        for (int k = 3 * j; k < 3 * j + 3; k++)
+            if (k != e) {
+                if (x == 0.0)
+                    x = pj[k];
+                else
+                    y = pj[k];
+            }
+        double expect = (x + y - 2 * x * y) * exp(log_rest - log1p(-P[j]));
+        if (!tu_close(b[l], expect, 1e-9))
+            fail_msg("Birnbaum of e%d = %.17g, closed form %.17g", e, b[l],
+                     expect);
+    }
+    free(b);
+    free(b_full);
+    free(reach);
+    free(pj);
+    free(P);
+    lw_prepared_free(p);
+    lw_model_free(m);
+    lw_error_clear(&err);
+}
+
 /* Out of memory anywhere in the build: an error, nothing leaked. */
 static void test_allocation_failures(void **state)
 {
@@ -207,6 +298,7 @@ int main(void)
         cmocka_unit_test(test_spliced_or_and),
         cmocka_unit_test(test_constant_module),
         cmocka_unit_test(test_deep_chain),
+        cmocka_unit_test(test_birnbaum_ring),
         cmocka_unit_test(test_allocation_failures),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -203,9 +203,25 @@ void tu_same_family_both_ways(const lw_prepared *p, const char *what)
 }
 
 
+/* The longest edge to a non-terminal child, counted again. */
+static uint32_t edge_span(const lw_diagram *d)
+{
+    uint32_t es = 0;
+    for (uint32_t i = 2; i < d->n; i++) {
+        uint32_t c[2] = {d->hi[i], d->lo[i]};
+        for (int k = 0; k < 2; k++)
+            if (c[k] > 1 && i - c[k] > es)
+                es = i - c[k];
+    }
+    return es;
+}
+
 void tu_same_diagram(const lw_diagram *a, const lw_diagram *b,
                      const char *what)
 {
+    if (a->edge_span != edge_span(a) || b->edge_span != edge_span(b))
+        fail_msg("%s: edge spans %u and %u, counted again %u and %u", what,
+                 a->edge_span, b->edge_span, edge_span(a), edge_span(b));
     int same = lw_diagram_same(a, b);
     if (same != 1)
         fail_msg("%s: diagrams of %u and %u nodes are %s", what, a->n, b->n,
