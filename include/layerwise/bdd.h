@@ -185,6 +185,11 @@ double lw_diagram_prob_diff(const lw_diagram *d, const double *q, double *w,
  * which the pass uses only a ring a little longer than d->edge_span when
  * the diagram has more than LW_RING_FROM nodes. */
 #define LW_RING_FROM 131072u
+/* Tests: with 'on', lw_diagram_birnbaum_given uses the ring on every
+ * diagram where it is smaller than the diagram, to check it on small
+ * ones.  Returns how many passes used the ring since the previous call.
+ * Process-wide; call from single-threaded test code only. */
+unsigned long lw_diagram_ring_for_tests(int on);
 void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
                                const double *node_diff, double *birnbaum,
                                double *reach);

@@ -693,7 +693,7 @@ static void set_key(const lw_network *net, const uint32_t *vars, size_t n,
 
 typedef struct stats {
     int models, hazards, groups, deps, variants, conds, absent, observed;
-    int constant, rrw_null, rrw_tiny, cut_sets, max_vars;
+    int constant, rrw_null, rrw_tiny, cut_sets, max_vars, ring;
 } stats;
 
 static void check_hazard(const lw_model *m, const gen *g, size_t h,
@@ -987,7 +987,11 @@ static void test_random_models(void **state)
             if (getenv("LW_RANDOM_SHOW"))
                 fprintf(stderr, "---- model %llu hazard %zu\n%s",
                         (unsigned long long)seed, h, g.xml);
+            /* every other model: Birnbaum with reach values in a ring
+             * (engine/bdd.c), whatever the diagram's size */
+            lw_diagram_ring_for_tests(seed % 2);
             check_hazard(m, &g, h, seed, &st);
+            st.ring += lw_diagram_ring_for_tests(0);
             st.hazards++;
         }
         lw_model_free(m);
@@ -996,12 +1000,14 @@ static void test_random_models(void **state)
     print_message("%d models, %d hazards (%d constant); with groups %d, "
                   "dependences %d, variants %d, conditions %d; absent "
                   "safeguards %d, observed events %d; %d cut sets; %d null "
-                  "RRW (%d below 1e-12 P); at most %d variables\n",
+                  "RRW (%d below 1e-12 P); at most %d variables; %d "
+                  "Birnbaum passes in a ring\n",
                   st.models, st.hazards, st.constant, st.groups, st.deps,
                   st.variants, st.conds, st.absent, st.observed, st.cut_sets,
-                  st.rrw_null, st.rrw_tiny, st.max_vars);
+                  st.rrw_null, st.rrw_tiny, st.max_vars, st.ring);
     assert_int_equal(soft_failures, 0);
     assert_true(st.models >= 300);
+    assert_true(st.ring > 50);
     /* the generator really exercises every feature */
     assert_true(st.groups > 20 && st.deps > 20 && st.variants > 20 &&
                 st.conds > 20 && st.absent > 10 && st.observed > 10);
