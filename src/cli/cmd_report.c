@@ -1,4 +1,5 @@
 /* cmd_report.c - layerwise report: the committee report as one HTML file. */
+#define _POSIX_C_SOURCE 200809L
 #include <stdlib.h>
 #include <string.h>
 #include <time.h>
