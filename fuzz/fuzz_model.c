@@ -86,7 +86,7 @@ static void check_analysis(const lw_analysis *a)
 
 /* The two ways of building each thing give the same thing: the BDD by
  * modules and gate by gate; the cut sets from the network and from the
- * BDD. */
+ * BDD; Birnbaum with reach values in a ring and without. */
 static void run_builds(const lw_model *m, size_t h, size_t v)
 {
     lw_options opt;
@@ -108,6 +108,33 @@ static void run_builds(const lw_model *m, size_t h, size_t v)
         CHECK(lw_diagram_same(plain, p->diagram) == 1);
     lw_diagram_free(plain);
     lw_error_clear(&err);
+    /* the longest edge the freeze recorded, and Birnbaum with reach values
+     * in a ring and with a slot per node: the same operations in the same
+     * order, so the same bits */
+    const lw_diagram *d = p->diagram;
+    uint32_t span = 0;
+    for (uint32_t i = 2; i < d->n; i++) {
+        if (d->hi[i] > 1 && i - d->hi[i] > span)
+            span = i - d->hi[i];
+        if (d->lo[i] > 1 && i - d->lo[i] > span)
+            span = i - d->lo[i];
+    }
+    CHECK(span == d->edge_span);
+    double *b1 = malloc((d->nlevels + 1) * sizeof *b1);
+    double *b2 = malloc((d->nlevels + 1) * sizeof *b2);
+    double *reach = malloc((size_t)d->n * sizeof *reach);
+    if (b1 && b2 && reach) {
+        lw_diagram_ring_for_tests(1);
+        lw_diagram_birnbaum_given(d, p->q, p->node_diff, b1, reach);
+        lw_diagram_ring_for_tests(0);
+        lw_diagram whole = *d;
+        whole.edge_span = d->n;
+        lw_diagram_birnbaum_given(&whole, p->q, p->node_diff, b2, reach);
+        CHECK(memcmp(b1, b2, d->nlevels * sizeof *b1) == 0);
+    }
+    free(b1);
+    free(b2);
+    free(reach);
     lw_cut_family *fb = NULL, *fn = NULL;
     lw_status sb = lw_cut_family_new(p->diagram, p->q, 200000, &fb, &err);
     lw_error_clear(&err);
