@@ -71,7 +71,10 @@ lw_bref lw_bdd_atleast(lw_bdd *b, uint32_t k, const lw_bref *in, size_t n);
 lw_bref lw_zdd_without(lw_bdd *z, lw_bref P, lw_bref Q);
 /* ZBDD: the union of P and Q; the family { p u q : p in P, q in Q }; the
  * minimal sets of P (none holding another).  Like 'without', each counts
- * its steps against a budget of 64 per allowed node. */
+ * its steps against a budget of 64 per allowed node.  The four recurse on
+ * the C stack, up to twice the number of levels deep: past LW_DEEP_LEVELS
+ * levels call them through lw_deep_call (layerwise/deep.h), as the cut-set
+ * builders below do. */
 lw_bref lw_zdd_union(lw_bdd *z, lw_bref P, lw_bref Q);
 lw_bref lw_zdd_product(lw_bdd *z, lw_bref P, lw_bref Q);
 lw_bref lw_zdd_minimal(lw_bdd *z, lw_bref P);
@@ -141,6 +144,8 @@ lw_status lw_diagram_freeze_canonical(const lw_bdd *b, lw_bref f,
                                       const uint32_t *level_var,
                                       lw_diagram **out, lw_error *err);
 void lw_diagram_free(lw_diagram *d);
+/* Set d->edge_span from the children (the freezers do). */
+void lw_diagram_measure_edges(lw_diagram *d);
 /* 1 when a and b are the same BDD up to the numbering of their nodes (a
  * walk from the roots pairs their nodes one to one, level for level), 0
  * when not, -1 when out of memory. */
@@ -244,7 +249,8 @@ lw_status lw_cut_family_top(const lw_cut_family *f, size_t top,
                             lw_error *err);
 void lw_level_sets_free(lw_level_set *sets, size_t n);
 /* Visit every set (for small families: tests, incident); 'fn' returns
- * non-zero to stop. */
+ * non-zero to stop.  Past LW_DEEP_LEVELS levels 'fn' runs on a thread with
+ * a large stack while the caller waits (layerwise/deep.h). */
 lw_status lw_cut_family_each(const lw_cut_family *f,
                              int (*fn)(void *ud, const uint32_t *levels,
                                        size_t order, double probability),

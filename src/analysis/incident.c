@@ -32,6 +32,7 @@
 #include <string.h>
 
 #include "layerwise/alloc.h"
+#include "layerwise/deep.h"
 
 /* ---- small helpers ---------------------------------------------------- */
 
@@ -923,7 +924,7 @@ static size_t *unique_copy(const size_t *in, size_t n, size_t *nout)
     return o;
 }
 
-lw_status lw_incident_prepared(lw_prepared *p, const size_t *failed,
+static lw_status incident_here(lw_prepared *p, const size_t *failed,
                                size_t nfailed, const size_t *held,
                                size_t nheld, lw_incident **out,
                                lw_error *err)
@@ -980,6 +981,37 @@ fail:
     work_free(&w);
     lw_incident_free(r);
     return st;
+}
+
+/* The walks over diagrams recurse once per level: past LW_DEEP_LEVELS
+ * levels the analysis runs on a thread with a large stack. */
+typedef struct incident_job {
+    lw_prepared *p;
+    const size_t *failed, *held;
+    size_t nfailed, nheld;
+    lw_incident **out;
+    lw_error *err;
+    lw_status st;
+} incident_job;
+
+static void incident_run(void *arg)
+{
+    incident_job *j = arg;
+    j->st = incident_here(j->p, j->failed, j->nfailed, j->held, j->nheld,
+                          j->out, j->err);
+}
+
+lw_status lw_incident_prepared(lw_prepared *p, const size_t *failed,
+                               size_t nfailed, const size_t *held,
+                               size_t nheld, lw_incident **out,
+                               lw_error *err)
+{
+    incident_job j = {p, failed, held, nfailed, nheld, out, err, LW_OK};
+    if (p->nlevels > LW_DEEP_LEVELS)
+        lw_deep_call(incident_run, &j);
+    else
+        incident_run(&j);
+    return j.st;
 }
 
 lw_status lw_incident_run(const lw_model *m, size_t variant, size_t hazard,

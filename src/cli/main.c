@@ -1,19 +1,19 @@
 /*
  * main.c - layerwise: dispatch to one command.
  *
- * The command runs on a thread with a large stack: some diagram
- * algorithms recurse once per variable level, and hospital-wide models
- * can have hundreds of thousands of them.
+ * The command runs on a thread with a large stack (lw_deep_call): some
+ * diagram algorithms recurse once per variable level, and hospital-wide
+ * models can have hundreds of thousands of them.
  */
 #include <gsl/gsl_errno.h>
 #if defined(__GLIBC__)
 #include <malloc.h>
 #endif
-#include <pthread.h>
 #include <stdio.h>
 #include <string.h>
 
 #include "cli/cli.h"
+#include "layerwise/deep.h"
 
 typedef struct command {
     const char *name;
@@ -51,11 +51,10 @@ typedef struct job {
     int rc;
 } job;
 
-static void *run_job(void *arg)
+static void run_job(void *arg)
 {
     job *j = arg;
     j->rc = j->cmd->run(j->argc, j->argv);
-    return NULL;
 }
 
 int main(int argc, char **argv)
@@ -90,16 +89,7 @@ int main(int argc, char **argv)
         if (strcmp(argv[1], commands[i].name))
             continue;
         job j = {&commands[i], argc - 1, argv + 1, EXIT_INVALID};
-        pthread_attr_t attr;
-        pthread_t t;
-        if (pthread_attr_init(&attr) == 0 &&
-            pthread_attr_setstacksize(&attr, (size_t)1 << 30) == 0 &&
-            pthread_create(&t, &attr, run_job, &j) == 0) {
-            pthread_join(t, NULL);
-        } else {
-            run_job(&j);    /* fall back to the main thread's stack */
-        }
-        pthread_attr_destroy(&attr);
+        lw_deep_call(run_job, &j);
         return j.rc;
     }
     fprintf(stderr, "layerwise: unknown command \"%s\"\n\n", argv[1]);

@@ -808,21 +808,15 @@ static lw_status freeze(const lw_bdd *b, lw_bref f, uint32_t nlevels,
             lw_free(stack);
         }
         lw_free(start);
-        uint32_t es = 0;
         for (size_t i = 2; i <= f; i++) {
             if (map[i] == UINT32_MAX)
                 continue;
-            uint32_t k = map[i], h = map[b->nodes[i].hi],
-                     o = map[b->nodes[i].lo];
+            uint32_t k = map[i];
             d->level[k] = b->nodes[i].level;
-            d->hi[k] = h;
-            d->lo[k] = o;
-            if (h > 1 && k - h > es)
-                es = k - h;
-            if (o > 1 && k - o > es)
-                es = k - o;
+            d->hi[k] = map[b->nodes[i].hi];
+            d->lo[k] = map[b->nodes[i].lo];
         }
-        d->edge_span = es;
+        lw_diagram_measure_edges(d);
     }
     d->root = f <= 1 ? f : map[f];
     lw_free(map);
@@ -832,6 +826,18 @@ oom:
     lw_free(map);
     lw_diagram_free(d);
     return lw_error_oom(err);
+}
+
+void lw_diagram_measure_edges(lw_diagram *d)
+{
+    uint32_t es = 0;
+    const uint32_t *hi = d->hi, *lo = d->lo;
+    for (uint32_t i = 2; i < d->n; i++) {
+        uint32_t h = hi[i] > 1 ? i - hi[i] : 0, o = lo[i] > 1 ? i - lo[i] : 0;
+        es = h > es ? h : es;
+        es = o > es ? o : es;
+    }
+    d->edge_span = es;
 }
 
 int lw_diagram_same(const lw_diagram *a, const lw_diagram *b)

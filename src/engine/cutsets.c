@@ -21,8 +21,11 @@
  *   bound is exact, so each set is reached after at most 'depth' steps.
  *
  * LIMITS
- *   'without' recurses on the C stack to a depth of about twice the number
- *   of levels; the command-line tool runs analyses on a large stack.
+ *   The set operations recurse on the C stack to a depth of about twice
+ *   the number of levels, and listing the sets once per element of a set;
+ *   past LW_DEEP_LEVELS levels the public builders and lw_cut_family_each
+ *   do their work on a thread with a large stack (layerwise/deep.h), so
+ *   callers need none.
  */
 #include "layerwise/bdd.h"
 
@@ -31,6 +34,7 @@
 #include <string.h>
 
 #include "layerwise/alloc.h"
+#include "layerwise/deep.h"
 
 struct lw_cut_family {
     lw_bdd *z;              /* the ZBDD manager */
@@ -107,7 +111,7 @@ static lw_cut_family *family_alloc(uint32_t nlevels, const double *q,
     return f;
 }
 
-lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
+static lw_status family_new(const lw_diagram *d, const double *q,
                             size_t max_nodes, lw_cut_family **out,
                             lw_error *err)
 {
@@ -216,7 +220,7 @@ static lw_bref gate_family(lw_bdd *z, const lw_gate *g, lw_bref *ins,
     return LW_BREF_INVALID;
 }
 
-lw_status lw_cut_family_from_network(const lw_network *net, uint32_t root,
+static lw_status family_from_network(const lw_network *net, uint32_t root,
                                      const uint32_t *var_level,
                                      uint32_t nlevels,
                                      const uint32_t *level_var,
@@ -296,6 +300,59 @@ oom:
     return lw_error_oom(err);
 }
 
+/* ---- the public builders, on a large stack when the order is deep ---- */
+
+typedef struct build_job {
+    const lw_diagram *d;        /* from the BDD, or */
+    const lw_network *net;      /* from the network */
+    uint32_t root, nlevels;
+    const uint32_t *var_level, *level_var;
+    const double *q;
+    size_t max_nodes;
+    lw_cut_family **out;
+    lw_error *err;
+    lw_status st;
+} build_job;
+
+static void build_run(void *arg)
+{
+    build_job *j = arg;
+    j->st = j->d ? family_new(j->d, j->q, j->max_nodes, j->out, j->err)
+                 : family_from_network(j->net, j->root, j->var_level,
+                                       j->nlevels, j->level_var, j->q,
+                                       j->max_nodes, j->out, j->err);
+}
+
+static lw_status build(build_job *j)
+{
+    if (j->nlevels > LW_DEEP_LEVELS)
+        lw_deep_call(build_run, j);
+    else
+        build_run(j);
+    return j->st;
+}
+
+lw_status lw_cut_family_new(const lw_diagram *d, const double *q,
+                            size_t max_nodes, lw_cut_family **out,
+                            lw_error *err)
+{
+    build_job j = {d, NULL, 0, d->nlevels, NULL, NULL, q, max_nodes, out,
+                   err, LW_OK};
+    return build(&j);
+}
+
+lw_status lw_cut_family_from_network(const lw_network *net, uint32_t root,
+                                     const uint32_t *var_level,
+                                     uint32_t nlevels,
+                                     const uint32_t *level_var,
+                                     const double *q, size_t max_nodes,
+                                     lw_cut_family **out, lw_error *err)
+{
+    build_job j = {NULL, net, root, nlevels, var_level, level_var, q,
+                   max_nodes, out, err, LW_OK};
+    return build(&j);
+}
+
 void lw_cut_family_free(lw_cut_family *f)
 {
     if (!f)
@@ -372,6 +429,12 @@ static void each_rec(walk *w, uint32_t n, size_t depth, double prob)
     }
 }
 
+static void each_run(void *arg)
+{
+    walk *w = arg;
+    each_rec(w, w->f->fam->root, 0, 1.0);
+}
+
 lw_status lw_cut_family_each(const lw_cut_family *f,
                              int (*fn)(void *, const uint32_t *, size_t,
                                        double),
@@ -381,7 +444,11 @@ lw_status lw_cut_family_each(const lw_cut_family *f,
     w.path = lw_malloc((f->nlevels + 1) * sizeof *w.path);
     if (!w.path)
         return lw_error_oom(err);
-    each_rec(&w, f->fam->root, 0, 1.0);
+    /* one frame per element of the set being listed */
+    if (f->nlevels > LW_DEEP_LEVELS)
+        lw_deep_call(each_run, &w);
+    else
+        each_run(&w);
     lw_free(w.path);
     return LW_OK;
 }

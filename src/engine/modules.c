@@ -668,20 +668,14 @@ static lw_status to_diagram(builder *B, uint32_t root, uint32_t nlevels,
     d->level[0] = d->level[1] = LW_LEVEL_TERMINAL;
     d->hi[0] = d->lo[0] = 0;
     d->hi[1] = d->lo[1] = 1;
-    uint32_t es = 0;
     for (size_t i = 2; i < n; i++) {
         uint32_t k = map[i];
         const struct fnode *x = flat(B, i);
-        uint32_t h = map[x->hi], o = map[x->lo];
         d->level[k] = x->lv;
-        d->hi[k] = h;
-        d->lo[k] = o;
-        if (h > 1 && k - h > es)
-            es = k - h;
-        if (o > 1 && k - o > es)
-            es = k - o;
+        d->hi[k] = map[x->hi];
+        d->lo[k] = map[x->lo];
     }
-    d->edge_span = es;
+    lw_diagram_measure_edges(d);
     d->root = map[root];
     lw_free(start);
     lw_free(map);

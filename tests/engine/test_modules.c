@@ -5,7 +5,8 @@
  * other than the leaves, votes over modules, constant modules, splicing
  * of OR under OR and AND under AND, shared events that stop a gate from
  * being a module, and a chain of 100,000 nested blocks.  Also the
- * Birnbaum pass on a diagram big enough to keep reach values in a ring.
+ * Birnbaum pass on a diagram big enough to keep reach values in a ring,
+ * and cut sets of a long chain analysed from a thread with a small stack.
  *
  * Probabilities pinned here are closed forms (independent events).
  */
@@ -15,6 +16,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -259,6 +261,68 @@ static void test_birnbaum_ring(void **state)
     lw_error_clear(&err);
 }
 
+/* The cut sets of a model with a long chain of levels, analysed from a
+ * thread with a small stack: the set operations recurse once per level,
+ * so the library must move them to a large stack itself.  The hazard is
+ * the OR of n pairs plus one pair across the chain (first and last
+ * events), which makes the family's minimisation walk the whole chain.
+ * Cut sets: the n pairs and the cross pair (closed form). */
+typedef struct small_stack_job {
+    const lw_model *m;
+    lw_status st;
+    double cut_sets;
+} small_stack_job;
+
+static void *small_stack_main(void *arg)
+{
+    small_stack_job *j = arg;
+    lw_error err = LW_ERROR_INIT;
+    lw_options opt;
+    lw_options_init(&opt);
+    opt.top = 3;
+    lw_analysis *a = NULL;
+    j->st = lw_analyze(j->m, LW_NONE, 0, &opt, &a, &err);
+    if (j->st == LW_OK)
+        j->cut_sets = a->cut_set_count;
+    lw_analysis_free(a);
+    lw_error_clear(&err);
+    return NULL;
+}
+
+static void test_deep_family_small_stack(void **state)
+{
+    (void)state;
+    int n = 20000;
+    size_t cap = (size_t)n * 150 + 512, len = 0;
+    char *xml = malloc(cap);
+    assert_non_null(xml);
+    len += (size_t)snprintf(xml + len, cap - len, HEAD);
+    for (int i = 0; i < 2 * n; i++)
+        len += (size_t)snprintf(xml + len, cap - len,
+                                "<error id=\"e%d\" p=\"0.001\"/>\n", i);
+    len += (size_t)snprintf(xml + len, cap - len, "<hazard id=\"h\"><any>");
+    for (int i = 0; i < n; i++)
+        len += (size_t)snprintf(xml + len, cap - len,
+                                "<all><ref to=\"e%d\"/><ref to=\"e%d\"/>"
+                                "</all>", 2 * i, 2 * i + 1);
+    snprintf(xml + len, cap - len,
+             "<all><ref to=\"e0\"/><ref to=\"e%d\"/></all></any></hazard>"
+             END, 2 * n - 1);
+    lw_model *m = tu_load(xml);
+    free(xml);
+    small_stack_job j = {m, LW_EINTERNAL, 0};
+    pthread_attr_t attr;
+    pthread_t t;
+    assert_int_equal(pthread_attr_init(&attr), 0);
+    assert_int_equal(pthread_attr_setstacksize(&attr, 256 * 1024), 0);
+    assert_int_equal(pthread_create(&t, &attr, small_stack_main, &j), 0);
+    pthread_attr_destroy(&attr);
+    pthread_join(t, NULL);
+    assert_int_equal(j.st, LW_OK);
+    assert_true(j.cut_sets == n + 1);
+    lw_model_free(m);
+}
+
 /* Out of memory anywhere in the build: an error, nothing leaked. */
 static void test_allocation_failures(void **state)
 {
@@ -299,6 +363,7 @@ int main(void)
         cmocka_unit_test(test_constant_module),
         cmocka_unit_test(test_deep_chain),
         cmocka_unit_test(test_birnbaum_ring),
+        cmocka_unit_test(test_deep_family_small_stack),
         cmocka_unit_test(test_allocation_failures),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

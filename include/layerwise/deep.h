@@ -1,0 +1,33 @@
+/*
+ * layerwise/deep.h - running work that recurses once per level.
+ *
+ * A few diagram algorithms recurse as deep as a diagram has levels (the
+ * zero-suppressed set operations behind the cut-set family, and the
+ * post-incident walks).  A hospital-wide model can have hundreds of
+ * thousands of levels, more than a default thread stack holds.  The
+ * library's entry points that may recurse that deep run their work through
+ * lw_deep_call when a diagram has more than LW_DEEP_LEVELS levels, so
+ * callers need no stack of their own.
+ */
+#ifndef LAYERWISE_DEEP_H
+#define LAYERWISE_DEEP_H
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* Levels up to which recursive work runs on the caller's stack: about
+ * 2 x 1024 frames of at most a few hundred bytes, well inside even a
+ * small thread stack. */
+#define LW_DEEP_LEVELS 1024u
+
+/* Run fn(arg) on a thread with a large stack (1 GiB of address space on
+ * 64-bit systems, committed only as it is touched) and wait for it.  A
+ * call made from such a thread runs fn directly; so does a call when no
+ * thread can be made.  Returns 1 when fn ran on a new thread. */
+int lw_deep_call(void (*fn)(void *), void *arg);
+
+#ifdef __cplusplus
+}
+#endif
+#endif

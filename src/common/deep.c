@@ -1,0 +1,46 @@
+/* deep.c - run recursive work on a thread with a large stack. */
+#include "layerwise/deep.h"
+
+#include <pthread.h>
+#include <stddef.h>
+#include <stdint.h>
+
+/* set on the threads lw_deep_call makes: nested calls run in place */
+static _Thread_local int on_deep_stack;
+
+typedef struct deep_job {
+    void (*fn)(void *);
+    void *arg;
+} deep_job;
+
+static void *deep_main(void *p)
+{
+    deep_job *j = p;
+    on_deep_stack = 1;
+    j->fn(j->arg);
+    return NULL;
+}
+
+int lw_deep_call(void (*fn)(void *), void *arg)
+{
+    if (on_deep_stack) {
+        fn(arg);
+        return 0;
+    }
+    size_t size = SIZE_MAX > 0xffffffffu ? (size_t)1 << 30 : (size_t)1 << 28;
+    deep_job j = {fn, arg};
+    pthread_attr_t attr;
+    pthread_t t;
+    int made = 0;
+    if (pthread_attr_init(&attr) == 0) {
+        made = pthread_attr_setstacksize(&attr, size) == 0 &&
+               pthread_create(&t, &attr, deep_main, &j) == 0;
+        pthread_attr_destroy(&attr);
+    }
+    if (!made) {
+        fn(arg);        /* no thread: the caller's stack it is */
+        return 0;
+    }
+    pthread_join(t, NULL);
+    return 1;
+}
