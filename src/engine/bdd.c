@@ -1026,13 +1026,14 @@ void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
     memset(birnbaum, 0, d->nlevels * sizeof *birnbaum);
     if (d->n <= 2)
         return;
-    uint32_t ring = 1;
+    uint64_t ring = 1;
     while (ring <= d->edge_span && ring < d->n)
         ring <<= 1;
     if (ring_always ? ring < d->n : d->n > LW_RING_FROM && ring < d->n / 4) {
-        ring_passes += ring_always;
+        if (ring_always)
+            ring_passes++;
         memset(reach, 0, ring * sizeof *reach);
-        push_down(d, q, node_diff, birnbaum, reach, ring - 1, 1);
+        push_down(d, q, node_diff, birnbaum, reach, (uint32_t)(ring - 1), 1);
     } else {
         memset(reach, 0, d->n * sizeof *reach);
         push_down(d, q, node_diff, birnbaum, reach, UINT32_MAX, 0);
