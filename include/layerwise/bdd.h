@@ -186,14 +186,16 @@ double lw_diagram_prob_diff(const lw_diagram *d, const double *q, double *w,
 /* The same Birnbaum values given the differences a probability pass kept
  * ('node_diff', from lw_diagram_prob_diff with the same q): one top-down
  * pass, so importances cost one pass beyond the probability that every
- * analysis computes anyway; 'reach' is d->n doubles of work space, of
- * which the pass uses only a ring a little longer than d->edge_span when
- * the diagram has more than LW_RING_FROM nodes. */
+ * analysis computes anyway; 'reach' is d->n doubles of work space.  When
+ * the diagram has more than LW_RING_FROM nodes and the smallest power of
+ * two above d->edge_span is under a quarter of them, the pass uses only
+ * that many slots, as a ring. */
 #define LW_RING_FROM 131072u
 /* Tests: with 'on', lw_diagram_birnbaum_given uses the ring on every
  * diagram where it is smaller than the diagram, to check it on small
- * ones.  Returns how many passes used the ring since the previous call.
- * Process-wide; call from single-threaded test code only. */
+ * ones.  Returns how many passes used the ring while test mode was on,
+ * since the previous call.  Process-wide; call from single-threaded test
+ * code only. */
 unsigned long lw_diagram_ring_for_tests(int on);
 void lw_diagram_birnbaum_given(const lw_diagram *d, const double *q,
                                const double *node_diff, double *birnbaum,
@@ -250,7 +252,8 @@ lw_status lw_cut_family_top(const lw_cut_family *f, size_t top,
 void lw_level_sets_free(lw_level_set *sets, size_t n);
 /* Visit every set (for small families: tests, incident); 'fn' returns
  * non-zero to stop.  Past LW_DEEP_LEVELS levels 'fn' runs on a thread with
- * a large stack while the caller waits (layerwise/deep.h). */
+ * a large stack while the caller waits (layerwise/deep.h): it must not
+ * longjmp or throw out of itself. */
 lw_status lw_cut_family_each(const lw_cut_family *f,
                              int (*fn)(void *ud, const uint32_t *levels,
                                        size_t order, double probability),

@@ -22,9 +22,13 @@ extern "C" {
 #define LW_DEEP_LEVELS 1024u
 
 /* Run fn(arg) on a thread with a large stack (1 GiB of address space on
- * 64-bit systems, committed only as it is touched) and wait for it.  A
- * call made from such a thread runs fn directly; so does a call when no
- * thread can be made.  Returns 1 when fn ran on a new thread. */
+ * 64-bit systems, committed only as it is touched; halved down to 64 MiB
+ * where the process may not map that much) and wait for it, with the
+ * caller's cancellation held off.  A call made from such a thread runs fn
+ * directly; so does a call when no thread can be made at all.  fn runs on
+ * another thread: it must not longjmp or throw out of itself, and its
+ * thread-local state and errno are not the caller's.  Returns 1 when fn
+ * ran on a new thread. */
 int lw_deep_call(void (*fn)(void *), void *arg);
 
 #ifdef __cplusplus

@@ -27,20 +27,30 @@ int lw_deep_call(void (*fn)(void *), void *arg)
         fn(arg);
         return 0;
     }
-    size_t size = SIZE_MAX > 0xffffffffu ? (size_t)1 << 30 : (size_t)1 << 28;
     deep_job j = {fn, arg};
-    pthread_attr_t attr;
     pthread_t t;
     int made = 0;
-    if (pthread_attr_init(&attr) == 0) {
+    /* 1 GiB of address space, less where the process may not map that
+     * much (an address-space limit, strict overcommit): halve down to
+     * 64 MiB, still some 300,000 frames */
+    size_t size = SIZE_MAX > 0xffffffffu ? (size_t)1 << 30 : (size_t)1 << 28;
+    for (; !made && size >= (size_t)1 << 26; size /= 2) {
+        pthread_attr_t attr;
+        if (pthread_attr_init(&attr) != 0)
+            break;
         made = pthread_attr_setstacksize(&attr, size) == 0 &&
                pthread_create(&t, &attr, deep_main, &j) == 0;
         pthread_attr_destroy(&attr);
     }
     if (!made) {
-        fn(arg);        /* no thread: the caller's stack it is */
+        fn(arg);        /* no thread at all: the caller's stack it is */
         return 0;
     }
+    /* the work writes through the caller's frame: the caller must not
+     * be cancelled away while it runs */
+    int old;
+    pthread_setcancelstate(PTHREAD_CANCEL_DISABLE, &old);
     pthread_join(t, NULL);
+    pthread_setcancelstate(old, &old);
     return 1;
 }

@@ -22,7 +22,8 @@ static uint64_t deep_sum(uint32_t n)
     pad[0] = n;
     if (n == 0)
         return 0;
-    return pad[0] + deep_sum(n - 1);
+    uint64_t below = deep_sum(n - 1);
+    return below + pad[0];      /* read after the call: no tail call */
 }
 
 typedef struct job {
