@@ -1,9 +1,9 @@
 /*
  * layerwise/deep.h - running work that recurses once per level.
  *
- * A few diagram algorithms recurse as deep as a diagram has levels (the
+ * A few algorithms recurse as deep as a diagram has levels (the
  * zero-suppressed set operations behind the cut-set family, and the
- * post-incident walks).  A hospital-wide model can have hundreds of
+ * post-incident walks) or a model has nested elements (the loader).  A hospital-wide model can have hundreds of
  * thousands of levels, more than a default thread stack holds.  The
  * library's entry points that may recurse that deep run their work through
  * lw_deep_call when a diagram has more than LW_DEEP_LEVELS levels, so

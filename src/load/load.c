@@ -38,6 +38,7 @@
 #include "common/numparse.h"
 #include "common/strmap.h"
 #include "layerwise/alloc.h"
+#include "layerwise/deep.h"
 #include "load/schema.h"
 
 /* What an id names: a node, a common-cause group, a dependence, a variant. */
@@ -1738,9 +1739,9 @@ static lw_status load_streaming(const char *data, size_t len,
     return LW_OK;
 }
 
-lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
-                               const lw_load_limits *limits, lw_model **out,
-                               lw_error *err)
+static lw_status load_memory(const char *data, size_t len, const char *name,
+                             const lw_load_limits *limits, lw_model **out,
+                             lw_error *err)
 {
     *out = NULL;
     loader L;
@@ -1879,6 +1880,37 @@ out:
     }
     *out = m;
     return LW_OK;
+}
+
+/* The model builders recurse once per level of element nesting: when the
+ * limit allows more than LW_DEEP_LEVELS levels, the load runs on a thread
+ * with a large stack (layerwise/deep.h), so callers need none. */
+typedef struct load_job {
+    const char *data;
+    size_t len;
+    const char *name;
+    const lw_load_limits *limits;
+    lw_model **out;
+    lw_error *err;
+    lw_status st;
+} load_job;
+
+static void load_run(void *arg)
+{
+    load_job *j = arg;
+    j->st = load_memory(j->data, j->len, j->name, j->limits, j->out, j->err);
+}
+
+lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
+                               const lw_load_limits *limits, lw_model **out,
+                               lw_error *err)
+{
+    load_job j = {data, len, name, limits, out, err, LW_OK};
+    if (limits && limits->max_depth > LW_DEEP_LEVELS)
+        lw_deep_call(load_run, &j);
+    else
+        load_run(&j);
+    return j.st;
 }
 
 lw_status lw_model_load_file(const char *path, const lw_load_limits *limits,

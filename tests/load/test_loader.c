@@ -12,6 +12,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -522,6 +523,65 @@ static void test_deep_nesting(void **state)
     }
     snprintf(xml + len, cap - len, "\n</hazard>\n" END);
     expect_only(xml, LW_EPARSE, 5, "nested more than 256");
+    free(xml);
+}
+
+/* Nesting 99,990 deep under a raised limit, loaded from a thread with a
+ * 256 KiB stack: the builders recurse once per level, so the loader must
+ * move to a large stack itself (layerwise/deep.h).  Every level is
+ * any(b, ...), with a at the bottom. */
+typedef struct nest_job {
+    const char *xml;
+    size_t len;
+    lw_status st;
+    size_t ngates;
+} nest_job;
+
+static void *nest_main(void *arg)
+{
+    nest_job *j = arg;
+    lw_load_limits lim = {.max_depth = LW_MAX_DEPTH_LIMIT};
+    if (tu_limits)
+        lim.stream_from = tu_limits->stream_from;
+    lw_error err = LW_ERROR_INIT;
+    lw_model *m = NULL;
+    j->st = lw_model_load_memory(j->xml, j->len, "nest.xml", &lim, &m, &err);
+    if (m) {
+        j->ngates = 0;
+        for (size_t i = 0; i < m->nnodes; i++)
+            j->ngates += lw_node_is_gate(m->nodes[i].kind);
+        lw_model_free(m);
+    }
+    lw_error_clear(&err);
+    return NULL;
+}
+
+static void test_deep_nesting_small_stack(void **state)
+{
+    (void)state;
+    size_t depth = 99990;
+    size_t cap = 512 + depth * 30;
+    char *xml = malloc(cap);
+    assert_non_null(xml);
+    size_t len = (size_t)snprintf(xml, cap, HEAD
+        "<error id=\"a\" p=\"0.1\"/><error id=\"b\" p=\"0.2\"/>\n"
+        "<hazard id=\"h\">");
+    for (size_t i = 0; i < depth; i++)
+        len += (size_t)snprintf(xml + len, cap - len, "<any><ref to=\"b\"/>");
+    len += (size_t)snprintf(xml + len, cap - len, "<ref to=\"a\"/>");
+    for (size_t i = 0; i < depth; i++)
+        len += (size_t)snprintf(xml + len, cap - len, "</any>");
+    len += (size_t)snprintf(xml + len, cap - len, "</hazard>\n" END);
+    nest_job j = {xml, len, LW_EINTERNAL, 0};
+    pthread_attr_t attr;
+    pthread_t t;
+    assert_int_equal(pthread_attr_init(&attr), 0);
+    assert_int_equal(pthread_attr_setstacksize(&attr, 256 * 1024), 0);
+    assert_int_equal(pthread_create(&t, &attr, nest_main, &j), 0);
+    pthread_attr_destroy(&attr);
+    pthread_join(t, NULL);
+    assert_int_equal(j.st, LW_OK);
+    assert_true(j.ngates >= depth);
     free(xml);
 }
 
@@ -1391,6 +1451,7 @@ int main(void)
         cmocka_unit_test(test_cycle),
         cmocka_unit_test(test_long_block_chain),
         cmocka_unit_test(test_deep_nesting),
+        cmocka_unit_test(test_deep_nesting_small_stack),
         cmocka_unit_test(test_vote_k_out_of_range),
         cmocka_unit_test(test_hazard_block_children),
         cmocka_unit_test(test_gate_without_inputs),
