@@ -16,7 +16,6 @@
 #include <cmocka.h>
 
 #include <math.h>
-#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -311,13 +310,7 @@ static void test_deep_family_small_stack(void **state)
     lw_model *m = tu_load(xml);
     free(xml);
     small_stack_job j = {m, LW_EINTERNAL, 0};
-    pthread_attr_t attr;
-    pthread_t t;
-    assert_int_equal(pthread_attr_init(&attr), 0);
-    assert_int_equal(pthread_attr_setstacksize(&attr, 256 * 1024), 0);
-    assert_int_equal(pthread_create(&t, &attr, small_stack_main, &j), 0);
-    pthread_attr_destroy(&attr);
-    pthread_join(t, NULL);
+    tu_run_on_stack(small_stack_main, &j, 256 * 1024);
     assert_int_equal(j.st, LW_OK);
     assert_true(j.cut_sets == n + 1);
     lw_model_free(m);

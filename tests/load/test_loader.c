@@ -12,7 +12,6 @@
 #include <cmocka.h>
 
 #include <math.h>
-#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -573,13 +572,7 @@ static void test_deep_nesting_small_stack(void **state)
         len += (size_t)snprintf(xml + len, cap - len, "</any>");
     len += (size_t)snprintf(xml + len, cap - len, "</hazard>\n" END);
     nest_job j = {xml, len, LW_EINTERNAL, 0};
-    pthread_attr_t attr;
-    pthread_t t;
-    assert_int_equal(pthread_attr_init(&attr), 0);
-    assert_int_equal(pthread_attr_setstacksize(&attr, 256 * 1024), 0);
-    assert_int_equal(pthread_create(&t, &attr, nest_main, &j), 0);
-    pthread_attr_destroy(&attr);
-    pthread_join(t, NULL);
+    tu_run_on_stack(nest_main, &j, 256 * 1024);
     assert_int_equal(j.st, LW_OK);
     assert_true(j.ngates >= depth);
     free(xml);

@@ -5,6 +5,7 @@
 #include <cmocka.h>
 
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -226,4 +227,15 @@ void tu_same_diagram(const lw_diagram *a, const lw_diagram *b,
     if (same != 1)
         fail_msg("%s: diagrams of %u and %u nodes are %s", what, a->n, b->n,
                  same < 0 ? "not compared (out of memory)" : "different");
+}
+
+void tu_run_on_stack(void *(*fn)(void *), void *arg, size_t bytes)
+{
+    pthread_attr_t attr;
+    pthread_t t;
+    assert_int_equal(pthread_attr_init(&attr), 0);
+    assert_int_equal(pthread_attr_setstacksize(&attr, bytes), 0);
+    assert_int_equal(pthread_create(&t, &attr, fn, arg), 0);
+    pthread_attr_destroy(&attr);
+    pthread_join(t, NULL);
 }

@@ -53,6 +53,8 @@ const char *tu_source_path(const char *rel);
 
 /* Relative closeness: |a - b| <= tol * max(|a|, |b|, tiny). */
 int tu_close(double a, double b, double tol);
+/* Run fn(arg) on a new thread with a stack of 'bytes', and wait for it. */
+void tu_run_on_stack(void *(*fn)(void *), void *arg, size_t bytes);
 #define assert_close(a, b, tol)                                            \
     do {                                                                   \
         double a_ = (a), b_ = (b);                                         \
