@@ -4,7 +4,8 @@
  * HOW IT WORKS
  *   1. The bytes are parsed by libxml2 with the network off, no entity
  *      substitution, no DTD loading and line numbers past 65535 kept.  A
- *      DOCTYPE that declares entities is rejected outright.
+ *      DOCTYPE that declares entities is rejected outright: before parsing
+ *      when its internal subset shows it, else after.
  *   2. The document is validated against the schema compiled into the
  *      library (docs/model.xsd).  Structural errors stop here, each with
  *      its line; libxml2's wording is rewritten where it helps.
@@ -1455,6 +1456,81 @@ static long entity_decl_line(const char *d, size_t len)
     return 0;
 }
 
+/* Before any parsing: the line of the first <!ENTITY in the internal
+ * subset of a DOCTYPE in the prolog (after the XML declaration, comments,
+ * processing instructions and white space), or 0.  Such a document is
+ * rejected without handing it to libxml2, which would spend seconds on a
+ * kilobyte of nested entity definitions before the rejection. */
+static long prolog_entity_line(const char *d, size_t len)
+{
+    long line = 1;
+    size_t i = 0;
+    if (len >= 3 && !memcmp(d, "\xEF\xBB\xBF", 3))
+        i = 3;
+    /* skip to just past 'end', counting lines; 0 when it never comes */
+#define SKIP_PAST(end)                                                     \
+    do {                                                                   \
+        size_t n_ = strlen(end);                                           \
+        for (;; i++) {                                                     \
+            if (i + n_ > len)                                              \
+                return 0;                                                  \
+            if (!memcmp(d + i, end, n_)) {                                 \
+                i += n_;                                                   \
+                break;                                                     \
+            }                                                              \
+            line += d[i] == '\n';                                          \
+        }                                                                  \
+    } while (0)
+    for (;;) {
+        while (i < len && (d[i] == ' ' || d[i] == '\t' || d[i] == '\r' ||
+                           d[i] == '\n'))
+            line += d[i++] == '\n';
+        if (i + 4 <= len && !memcmp(d + i, "<!--", 4)) {
+            SKIP_PAST("-->");
+        } else if (i + 2 <= len && !memcmp(d + i, "<?", 2)) {
+            SKIP_PAST("?>");
+        } else if (i + 9 <= len && !memcmp(d + i, "<!DOCTYPE", 9)) {
+            break;
+        } else {
+            return 0;       /* the root element, or not XML at all */
+        }
+    }
+    /* the DOCTYPE: its internal subset starts at a '[' outside quotes */
+    for (;; i++) {
+        if (i >= len || d[i] == '>')
+            return 0;
+        if (d[i] == '"' || d[i] == '\'') {
+            char q[2] = {d[i], '\0'};
+            i++;
+            SKIP_PAST(q);
+            i--;
+            continue;
+        }
+        line += d[i] == '\n';
+        if (d[i] == '[')
+            break;
+    }
+    for (i++; i < len; i++) {
+        if (d[i] == ']')
+            return 0;
+        if (d[i] == '"' || d[i] == '\'') {
+            char q[2] = {d[i], '\0'};
+            i++;
+            SKIP_PAST(q);
+            i--;
+        } else if (i + 4 <= len && !memcmp(d + i, "<!--", 4)) {
+            SKIP_PAST("-->");
+            i--;
+        } else if (i + 8 <= len && !memcmp(d + i, "<!ENTITY", 8)) {
+            return line;
+        } else {
+            line += d[i] == '\n';
+        }
+    }
+#undef SKIP_PAST
+    return 0;
+}
+
 static int doc_declares_entities(xmlDocPtr doc)
 {
     xmlDtdPtr dtds[2] = {doc->intSubset, doc->extSubset};
@@ -1773,6 +1849,11 @@ static lw_status load_memory(const char *data, size_t len, const char *name,
             lw_strmap_free(&L.ids);
             return lw_error_oom(err);
         }
+    }
+    long pel = prolog_entity_line(data, len);
+    if (pel > 0) {
+        lw_strmap_free(&L.ids);
+        return lw_error_set(err, LW_EPARSE, L.file, pel, "%s", entity_msg);
     }
     xml_sink sink = {&L, 0, data, len, -1, 0, -1, ""};
     xmlSetStructuredErrorFunc(&sink, xml_error_cb);

@@ -945,6 +945,17 @@ static void test_doctype_entities_rejected(void **state)
         /* 7 */ "<error id=\"a\" p=\"0.1\"/>\n"
         /* 8 */ "<hazard id=\"h\"><ref to=\"a\"/></hazard>\n"
         /* 9 */ END, 3);
+    /* a quoted system id holding '[' and '>', then the subset */
+    expect_entity_rejected(
+        /* 1 */ "<?xml version=\"1.0\"?>\n"
+        /* 2 */ "<!DOCTYPE safety-model SYSTEM \"odd[name>.dtd\" [\n"
+        /* 3 */ "\n"
+        /* 4 */ "<!ENTITY x \"y\">\n"
+        /* 5 */ "]>\n"
+        /* 6 */ "<safety-model format=\"1\" id=\"m\">\n"
+        /* 7 */ "<error id=\"a\" p=\"0.1\"/>\n"
+        /* 8 */ "<hazard id=\"h\"><ref to=\"a\"/></hazard>\n"
+        /* 9 */ END, 4);
     /* billion laughs: one plain message, no expansion */
     expect_entity_rejected(
         /* 1 */ "<?xml version=\"1.0\"?>\n"
@@ -965,6 +976,27 @@ static void test_doctype_entities_rejected(void **state)
         /* 16 */ "<error id=\"a\" p=\"0.1\" label=\"&l9;\"/>\n"
         /* 17 */ "<hazard id=\"h\"><ref to=\"a\"/></hazard>\n"
         /* 18 */ END, 3);
+}
+
+/* A DOCTYPE whose subset holds only a comment that mentions an entity
+ * declares none: the model loads. */
+static void test_doctype_comment_only(void **state)
+{
+    (void)state;
+    const char *xml =
+        "<?xml version=\"1.0\"?>\n"
+        "<!-- a comment -->\n"
+        "<?pi x?>\n"
+        "<!DOCTYPE safety-model [\n"
+        "<!-- <!ENTITY no \"x\"> -->\n"
+        "]>\n"
+        "<safety-model format=\"1\" id=\"m\">\n"
+        "<error id=\"a\" p=\"0.1\"/>\n"
+        "<hazard id=\"h\"><ref to=\"a\"/></hazard>\n"
+        END;
+    lw_model *m = tu_load(xml);
+    assert_int_equal(m->nhazards, 1);
+    lw_model_free(m);
 }
 
 static void test_external_dtd_not_read(void **state)
@@ -1455,6 +1487,7 @@ int main(void)
         cmocka_unit_test(test_no_hazard),
         cmocka_unit_test(test_title_exposure_twice),
         cmocka_unit_test(test_doctype_entities_rejected),
+        cmocka_unit_test(test_doctype_comment_only),
         cmocka_unit_test(test_external_dtd_not_read),
         cmocka_unit_test(test_unused_event_is_a_warning),
         cmocka_unit_test(test_every_error_reported),
