@@ -12,6 +12,8 @@
 #ifndef LAYERWISE_DEEP_H
 #define LAYERWISE_DEEP_H
 
+#include <stddef.h>
+
 #ifdef __cplusplus
 extern "C" {
 #endif
@@ -30,6 +32,9 @@ extern "C" {
  * thread-local state and errno are not the caller's.  Returns 1 when fn
  * ran on a new thread. */
 int lw_deep_call(void (*fn)(void *), void *arg);
+/* fn(arg) through lw_deep_call when 'levels' is over LW_DEEP_LEVELS, else
+ * in place: how the library's entry points call their recursive work. */
+void lw_deep_call_past(size_t levels, void (*fn)(void *), void *arg);
 
 #ifdef __cplusplus
 }

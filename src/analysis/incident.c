@@ -1007,10 +1007,7 @@ lw_status lw_incident_prepared(lw_prepared *p, const size_t *failed,
                                lw_error *err)
 {
     incident_job j = {p, failed, held, nfailed, nheld, out, err, LW_OK};
-    if (p->nlevels > LW_DEEP_LEVELS)
-        lw_deep_call(incident_run, &j);
-    else
-        incident_run(&j);
+    lw_deep_call_past(p->nlevels, incident_run, &j);
     return j.st;
 }
 

@@ -54,3 +54,11 @@ int lw_deep_call(void (*fn)(void *), void *arg)
     pthread_setcancelstate(old, &old);
     return 1;
 }
+
+void lw_deep_call_past(size_t levels, void (*fn)(void *), void *arg)
+{
+    if (levels > LW_DEEP_LEVELS)
+        lw_deep_call(fn, arg);
+    else
+        fn(arg);
+}

@@ -325,10 +325,7 @@ static void build_run(void *arg)
 
 static lw_status build(build_job *j)
 {
-    if (j->nlevels > LW_DEEP_LEVELS)
-        lw_deep_call(build_run, j);
-    else
-        build_run(j);
+    lw_deep_call_past(j->nlevels, build_run, j);
     return j->st;
 }
 
@@ -445,10 +442,7 @@ lw_status lw_cut_family_each(const lw_cut_family *f,
     if (!w.path)
         return lw_error_oom(err);
     /* one frame per element of the set being listed */
-    if (f->nlevels > LW_DEEP_LEVELS)
-        lw_deep_call(each_run, &w);
-    else
-        each_run(&w);
+    lw_deep_call_past(f->nlevels, each_run, &w);
     lw_free(w.path);
     return LW_OK;
 }

@@ -1464,70 +1464,49 @@ static long entity_decl_line(const char *d, size_t len)
 static long prolog_entity_line(const char *d, size_t len)
 {
     long line = 1;
-    size_t i = 0;
-    if (len >= 3 && !memcmp(d, "\xEF\xBB\xBF", 3))
-        i = 3;
-    /* skip to just past 'end', counting lines; 0 when it never comes */
-#define SKIP_PAST(end)                                                     \
-    do {                                                                   \
-        size_t n_ = strlen(end);                                           \
-        for (;; i++) {                                                     \
-            if (i + n_ > len)                                              \
-                return 0;                                                  \
-            if (!memcmp(d + i, end, n_)) {                                 \
-                i += n_;                                                   \
-                break;                                                     \
-            }                                                              \
-            line += d[i] == '\n';                                          \
-        }                                                                  \
-    } while (0)
-    for (;;) {
-        while (i < len && (d[i] == ' ' || d[i] == '\t' || d[i] == '\r' ||
-                           d[i] == '\n'))
+    size_t i = len >= 3 && !memcmp(d, "\xEF\xBB\xBF", 3) ? 3 : 0;
+    for (;;) {      /* the prolog, up to the DOCTYPE */
+        while (i < len && strchr(" \t\r\n", d[i]))
             line += d[i++] == '\n';
-        if (i + 4 <= len && !memcmp(d + i, "<!--", 4)) {
-            SKIP_PAST("-->");
-        } else if (i + 2 <= len && !memcmp(d + i, "<?", 2)) {
-            SKIP_PAST("?>");
-        } else if (i + 9 <= len && !memcmp(d + i, "<!DOCTYPE", 9)) {
+        int ok;
+        if (i + 4 <= len && !memcmp(d + i, "<!--", 4))
+            ok = skip_past(d, len, &i, &line, "-->");
+        else if (i + 2 <= len && !memcmp(d + i, "<?", 2))
+            ok = skip_past(d, len, &i, &line, "?>");
+        else if (i + 9 <= len && !memcmp(d + i, "<!DOCTYPE", 9))
             break;
-        } else {
+        else
             return 0;       /* the root element, or not XML at all */
-        }
-    }
-    /* the DOCTYPE: its internal subset starts at a '[' outside quotes */
-    for (;; i++) {
-        if (i >= len || d[i] == '>')
+        if (!ok)
             return 0;
-        if (d[i] == '"' || d[i] == '\'') {
-            char q[2] = {d[i], '\0'};
-            i++;
-            SKIP_PAST(q);
+    }
+    /* the DOCTYPE, its internal subset between '[' and ']' outside
+     * quotes and comments */
+    int in_subset = 0;
+    char quote = 0;
+    for (i += 9; i < len; i++) {
+        char ch = d[i];
+        if (quote) {
+            quote = ch == quote ? 0 : quote;
+        } else if (ch == '"' || ch == '\'') {
+            quote = ch;
+        } else if (ch == '>' && !in_subset) {
+            return 0;
+        } else if (ch == '[') {
+            in_subset = 1;
+        } else if (ch == ']') {
+            return 0;
+        } else if (in_subset && i + 4 <= len && !memcmp(d + i, "<!--", 4)) {
+            if (!skip_past(d, len, &i, &line, "-->"))
+                return 0;
             i--;
             continue;
-        }
-        line += d[i] == '\n';
-        if (d[i] == '[')
-            break;
-    }
-    for (i++; i < len; i++) {
-        if (d[i] == ']')
-            return 0;
-        if (d[i] == '"' || d[i] == '\'') {
-            char q[2] = {d[i], '\0'};
-            i++;
-            SKIP_PAST(q);
-            i--;
-        } else if (i + 4 <= len && !memcmp(d + i, "<!--", 4)) {
-            SKIP_PAST("-->");
-            i--;
-        } else if (i + 8 <= len && !memcmp(d + i, "<!ENTITY", 8)) {
+        } else if (in_subset && i + 8 <= len &&
+                   !memcmp(d + i, "<!ENTITY", 8)) {
             return line;
-        } else {
-            line += d[i] == '\n';
         }
+        line += ch == '\n';
     }
-#undef SKIP_PAST
     return 0;
 }
 
@@ -1987,10 +1966,7 @@ lw_status lw_model_load_memory(const char *data, size_t len, const char *name,
                                lw_error *err)
 {
     load_job j = {data, len, name, limits, out, err, LW_OK};
-    if (limits && limits->max_depth > LW_DEEP_LEVELS)
-        lw_deep_call(load_run, &j);
-    else
-        load_run(&j);
+    lw_deep_call_past(limits ? limits->max_depth : 0, load_run, &j);
     return j.st;
 }
 

@@ -62,10 +62,27 @@ static void test_deep_recursion(void **state)
     assert_true(pthread_equal(j.nested_self, j.self));
 }
 
+static void note_thread(void *arg)
+{
+    *(pthread_t *)arg = pthread_self();
+}
+
+/* lw_deep_call_past: in place up to LW_DEEP_LEVELS, on a new thread past */
+static void test_deep_call_past(void **state)
+{
+    (void)state;
+    pthread_t t = pthread_self();
+    lw_deep_call_past(LW_DEEP_LEVELS, note_thread, &t);
+    assert_true(pthread_equal(t, pthread_self()));
+    lw_deep_call_past(LW_DEEP_LEVELS + 1, note_thread, &t);
+    assert_false(pthread_equal(t, pthread_self()));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_deep_recursion),
+        cmocka_unit_test(test_deep_call_past),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -145,29 +145,20 @@ static void test_deep_chain(void **state)
 {
     (void)state;
     int n = 100000;
-    size_t cap = (size_t)n * 120 + 256, len = 0;
-    char *xml = malloc(cap);
-    assert_non_null(xml);
-    len += (size_t)snprintf(xml + len, cap - len, HEAD);
+    tu_text x = {0};
+    tu_printf(&x, HEAD);
     for (int i = 0; i < n; i++)
-        len += (size_t)snprintf(xml + len, cap - len,
-                                "<error id=\"e%d\" p=\"1e-6\"/>\n", i);
+        tu_printf(&x, "<error id=\"e%d\" p=\"1e-6\"/>\n", i);
     for (int i = 0; i < n; i++) {
+        tu_printf(&x, "<block id=\"b%d\"><any><ref to=\"e%d\"/>", i, i);
         if (i + 1 < n)
-            len += (size_t)snprintf(xml + len, cap - len,
-                                    "<block id=\"b%d\"><any><ref to=\"e%d\"/>"
-                                    "<ref to=\"b%d\"/></any></block>\n", i, i,
-                                    i + 1);
-        else
-            len += (size_t)snprintf(xml + len, cap - len,
-                                    "<block id=\"b%d\"><any><ref to=\"e%d\"/>"
-                                    "</any></block>\n", i, i);
+            tu_printf(&x, "<ref to=\"b%d\"/>", i + 1);
+        tu_printf(&x, "</any></block>\n");
     }
-    snprintf(xml + len, cap - len,
-             "<hazard id=\"h\"><ref to=\"b0\"/></hazard>" END);
-    double P = check(xml);
+    tu_printf(&x, "<hazard id=\"h\"><ref to=\"b0\"/></hazard>" END);
+    double P = check(x.s);
     assert_true(tu_close(P, -expm1(n * log1p(-1e-6)), 1e-12));
-    free(xml);
+    free(x.s);
 }
 
 /* Birnbaum values of a diagram too big for the cache, whose reach values
@@ -182,28 +173,24 @@ static void test_birnbaum_ring(void **state)
 {
     (void)state;
     int n = 50000;
-    size_t cap = (size_t)n * 400 + 256, len = 0;
-    char *xml = malloc(cap);
+    tu_text t = {0};
     double *pj = malloc((size_t)n * 3 * sizeof *pj);
-    assert_non_null(xml);
     assert_non_null(pj);
-    len += (size_t)snprintf(xml + len, cap - len, HEAD);
+    tu_printf(&t, HEAD);
     for (int j = 0; j < 3 * n; j++) {
         pj[j] = 0.05 + 0.9 * (double)((j * 7919) % 1000) / 1000.0;
-        len += (size_t)snprintf(xml + len, cap - len,
-                                "<error id=\"e%d\" p=\"%.17g\"/>\n", j, pj[j]);
+        tu_printf(&t, "<error id=\"e%d\" p=\"%.17g\"/>\n", j, pj[j]);
     }
     for (int j = 0; j < n; j++)
-        len += (size_t)snprintf(xml + len, cap - len,
-                                "<block id=\"b%d\"><vote k=\"2\">"
-                                "<ref to=\"e%d\"/><ref to=\"e%d\"/>"
-                                "<ref to=\"e%d\"/></vote></block>\n", j, 3 * j, 3 * j + 1, 3 * j + 2);
-    len += (size_t)snprintf(xml + len, cap - len, "<hazard id=\"h\"><any>");
+        tu_printf(&t, "<block id=\"b%d\"><vote k=\"2\"><ref to=\"e%d\"/>"
+                  "<ref to=\"e%d\"/><ref to=\"e%d\"/></vote></block>\n", j,
+                  3 * j, 3 * j + 1, 3 * j + 2);
+    tu_printf(&t, "<hazard id=\"h\"><any>");
     for (int j = 0; j < n; j++)
-        len += (size_t)snprintf(xml + len, cap - len, "<ref to=\"b%d\"/>", j);
-    snprintf(xml + len, cap - len, "</any></hazard>" END);
-    lw_model *m = tu_load(xml);
-    free(xml);
+        tu_printf(&t, "<ref to=\"b%d\"/>", j);
+    tu_printf(&t, "</any></hazard>" END);
+    lw_model *m = tu_load(t.s);
+    free(t.s);
     lw_error err = LW_ERROR_INIT;
     lw_prepared *p = NULL;
     assert_int_equal(lw_prepare(m, LW_NONE, 0, NULL, &p, &err), LW_OK);
@@ -292,23 +279,18 @@ static void test_deep_family_small_stack(void **state)
 {
     (void)state;
     int n = 20000;
-    size_t cap = (size_t)n * 150 + 512, len = 0;
-    char *xml = malloc(cap);
-    assert_non_null(xml);
-    len += (size_t)snprintf(xml + len, cap - len, HEAD);
+    tu_text x = {0};
+    tu_printf(&x, HEAD);
     for (int i = 0; i < 2 * n; i++)
-        len += (size_t)snprintf(xml + len, cap - len,
-                                "<error id=\"e%d\" p=\"0.001\"/>\n", i);
-    len += (size_t)snprintf(xml + len, cap - len, "<hazard id=\"h\"><any>");
+        tu_printf(&x, "<error id=\"e%d\" p=\"0.001\"/>\n", i);
+    tu_printf(&x, "<hazard id=\"h\"><any>");
     for (int i = 0; i < n; i++)
-        len += (size_t)snprintf(xml + len, cap - len,
-                                "<all><ref to=\"e%d\"/><ref to=\"e%d\"/>"
-                                "</all>", 2 * i, 2 * i + 1);
-    snprintf(xml + len, cap - len,
-             "<all><ref to=\"e0\"/><ref to=\"e%d\"/></all></any></hazard>"
-             END, 2 * n - 1);
-    lw_model *m = tu_load(xml);
-    free(xml);
+        tu_printf(&x, "<all><ref to=\"e%d\"/><ref to=\"e%d\"/></all>",
+                  2 * i, 2 * i + 1);
+    tu_printf(&x, "<all><ref to=\"e0\"/><ref to=\"e%d\"/></all></any>"
+              "</hazard>" END, 2 * n - 1);
+    lw_model *m = tu_load(x.s);
+    free(x.s);
     small_stack_job j = {m, LW_EINTERNAL, 0};
     tu_run_on_stack(small_stack_main, &j, 256 * 1024);
     assert_int_equal(j.st, LW_OK);

@@ -239,3 +239,26 @@ void tu_run_on_stack(void *(*fn)(void *), void *arg, size_t bytes)
     pthread_attr_destroy(&attr);
     pthread_join(t, NULL);
 }
+
+void tu_printf(tu_text *t, const char *fmt, ...)
+{
+    for (;;) {
+        va_list ap;
+        va_start(ap, fmt);
+        int n = vsnprintf(t->s ? t->s + t->len : NULL,
+                          t->s ? t->cap - t->len : 0, fmt, ap);
+        va_end(ap);
+        assert_true(n >= 0);
+        if (t->s && t->len + (size_t)n < t->cap) {
+            t->len += (size_t)n;
+            return;
+        }
+        size_t cap = t->cap ? 2 * t->cap : 4096;
+        while (cap <= t->len + (size_t)n)
+            cap *= 2;
+        char *ns = realloc(t->s, cap);
+        assert_non_null(ns);
+        t->s = ns;
+        t->cap = cap;
+    }
+}

@@ -53,6 +53,14 @@ const char *tu_source_path(const char *rel);
 
 /* Relative closeness: |a - b| <= tol * max(|a|, |b|, tiny). */
 int tu_close(double a, double b, double tol);
+/* Text that grows as it is written (big generated models); fails the
+ * test when memory runs out.  Free t->s when done. */
+typedef struct tu_text {
+    char *s;
+    size_t len, cap;
+} tu_text;
+void tu_printf(tu_text *t, const char *fmt, ...)
+    __attribute__((format(printf, 2, 3)));
 /* Run fn(arg) on a new thread with a stack of 'bytes', and wait for it. */
 void tu_run_on_stack(void *(*fn)(void *), void *arg, size_t bytes);
 #define assert_close(a, b, tol)                                            \
